@@ -1,0 +1,2 @@
+// Public API of the audit area; re-exports only (owned by the audit work).
+export {};

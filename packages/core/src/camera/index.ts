@@ -1,0 +1,2 @@
+// Public API of the camera area; re-exports only (owned by the camera work).
+export {};

@@ -1,0 +1,2 @@
+// File access for Node (owned by the fits work).
+export {};

@@ -1,0 +1,2 @@
+// Public API of the sim area; re-exports only (owned by the sim work).
+export {};

@@ -1,0 +1,2 @@
+// Public API of the sky area; re-exports only (owned by the sky work).
+export {};

@@ -1,0 +1,2 @@
+// Public API of the stars area; re-exports only (owned by the stars work).
+export {};
