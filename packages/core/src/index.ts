@@ -2,6 +2,7 @@
 export * from './errors.js';
 export * from './diagnostics.js';
 export * from './fits/index.js';
+export * from './frame/index.js';
 export * from './image/index.js';
 export * from './stats/index.js';
 export * from './sim/index.js';

@@ -1,0 +1,2 @@
+// Public API of the frame area: what a header says about the observation.
+export * from './observation.js';
