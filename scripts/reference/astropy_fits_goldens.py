@@ -240,7 +240,12 @@ def blank_summary(hdu, raw_header):
     with open(hdu._file.name, "rb") as fh:  # stored values, before any scaling
         fh.seek(hdu._data_offset)
         stored = np.frombuffer(fh.read(count * abs(bitpix) // 8), dtype=dtype)
-    return {"stored": str(blank), "storedCount": int((stored == blank).sum())}
+    out = {"stored": str(blank), "storedCount": int((stored == blank).sum())}
+    if raw_header.get("BSCALE", 1) == 1 and raw_header.get("BZERO", 0) == 0:
+        # Unscaled integers: astropy goes to float only because BLANK is present; this is the
+        # integer type the values have without it.
+        out["integerElementType"] = {8: "uint8", 16: "int16", 32: "int32", 64: "int64"}[bitpix]
+    return out
 
 
 def read_file(tag, rel, full):
