@@ -1,2 +1,3 @@
-// Public API of the sky area; re-exports only (owned by the sky work).
-export {};
+// Public API of the sky area: read-noise penalty, sub-length advice, per-sub sky checks.
+export * from './penalty.js';
+export * from './subs.js';
