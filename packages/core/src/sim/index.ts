@@ -1,2 +1,35 @@
 // Public API of the sim area; re-exports only (owned by the sim work).
-export {};
+export { Rng, mixSeed, POISSON_INVERSION_LIMIT } from './rng.js';
+export {
+  adcMaxAdu,
+  adcMaxCode,
+  buildFixedPattern,
+  bayerChannelAt,
+  channelResponse,
+  collectedElectrons,
+  darkCurrentAt,
+  darkTemperatureFactor,
+  drawHotPixels,
+  expectedFlatStats,
+  exposeSensor,
+  nativeGainElectronsPerAdu,
+  quantizationStepAdu,
+  sensorSaturation,
+  validateCamera,
+} from './camera.js';
+export type {
+  AmpGlowModel,
+  BayerModel,
+  BayerPattern,
+  CameraModel,
+  BayerChannel,
+  ExpectedFlatStats,
+  ExpectedStatsOptions,
+  FixedPattern,
+  SimulatedHotPixel,
+  HotPixelModel,
+  SensorSaturation,
+  SensorEdge,
+  SensorExposure,
+} from './camera.js';
+export { KESTREL_M14, WREN_C12 } from './presets.js';
