@@ -23,7 +23,19 @@ export type ErrorCode =
   | 'INPUT_NOT_FOUND'
   | 'INPUT_READ_FAILED'
   | 'FIT_TOO_FEW_POINTS'
-  | 'FIT_DEGENERATE';
+  | 'FIT_DEGENERATE'
+  // Warning diagnostics raised as errors by strict FITS parsing (same code as the diagnostic).
+  | 'FITS_DUPLICATE_KEYWORD'
+  | 'FITS_LOWERCASE_KEYWORD'
+  | 'FITS_NONSTANDARD_CARD'
+  | 'FITS_ILLEGAL_CHARACTER'
+  | 'FITS_SHORT_LAST_BLOCK'
+  | 'FITS_NONZERO_PADDING'
+  | 'FITS_TRAILING_BYTES'
+  | 'FITS_CHECKSUM_MISMATCH'
+  | 'FITS_DATASUM_MISMATCH'
+  | 'FITS_BLANK_IN_FLOAT'
+  | 'OUTPUT_WRITE_FAILED';
 
 /** Where in the input a problem sits. `hdu` is 0-based, `card` is 1-based within its HDU, `byte` is a file offset. */
 export interface Where {
