@@ -33,3 +33,16 @@ export type {
   SensorExposure,
 } from './camera.js';
 export { KESTREL_M14, WREN_C12 } from './presets.js';
+export {
+  addSky,
+  addStar,
+  addStars,
+  addTrail,
+  distanceFromTrail,
+  drawStarField,
+  moffatAlpha,
+  moffatFluxOutside,
+  psfBoxRadius,
+  validatePsf,
+} from './scene.js';
+export type { PsfModel, PsfProfile, SatelliteTrail, SkyModel, Star, StarFieldOptions, StarRenderOptions } from './scene.js';
