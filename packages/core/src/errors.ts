@@ -35,7 +35,12 @@ export type ErrorCode =
   | 'FITS_CHECKSUM_MISMATCH'
   | 'FITS_DATASUM_MISMATCH'
   | 'FITS_BLANK_IN_FLOAT'
-  | 'OUTPUT_WRITE_FAILED';
+  | 'OUTPUT_WRITE_FAILED'
+  // Camera characterization: sets that cannot support the measurement.
+  | 'INPUT_SCALED_DATA'
+  | 'INPUT_NO_BIAS_PAIR'
+  | 'INPUT_TOO_FEW_FLAT_PAIRS'
+  | 'INPUT_BAD_PROFILE';
 
 /** Where in the input a problem sits. `hdu` is 0-based, `card` is 1-based within its HDU, `byte` is a file offset. */
 export interface Where {
