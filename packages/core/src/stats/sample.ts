@@ -67,7 +67,23 @@ export function fillHistogram(
   const sx = view.stride[1] ?? 0;
   let blanks = 0;
   let masked = 0;
-  if (mask === undefined) {
+  // A BLANK that no element can equal is dropped from the loop: comparing integer elements with NaN would
+  // force float compares and double the cost of this pass.
+  const hasBlank = blank === blank;
+  if (mask === undefined && !hasBlank) {
+    for (let y = 0; y < h; y++) {
+      let i = view.offset + y * sy;
+      if (sx === 1) {
+        const end = i + w;
+        for (; i < end; i++) (counts[(data[i] as number) - origin] as number)++;
+      } else {
+        for (let x = 0; x < w; x++) {
+          (counts[(data[i] as number) - origin] as number)++;
+          i += sx;
+        }
+      }
+    }
+  } else if (mask === undefined) {
     for (let y = 0; y < h; y++) {
       let i = view.offset + y * sy;
       for (let x = 0; x < w; x++) {
@@ -230,7 +246,8 @@ export function sampleView(view: FrameView, opts: SampleOptions = {}, forceValue
     }
     if (layout !== undefined) {
       const counts = new Uint32Array(layout.bins);
-      fillHistogram(view, counts, layout.origin, blank, mask, tally);
+      const inRange = Number.isInteger(blank) && blank >= layout.origin && blank < layout.origin + layout.bins;
+      fillHistogram(view, counts, layout.origin, inRange ? blank : Number.NaN, mask, tally);
       let lo = 0;
       let hi = layout.bins - 1;
       while (lo <= hi && counts[lo] === 0) lo++;
