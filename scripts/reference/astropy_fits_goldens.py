@@ -10,7 +10,9 @@ Source of truth: astropy 5.2.1 ``astropy.io.fits`` with numpy 1.24 (Debian bookw
   (``/usr/lib/eso-midas/22FEB/test``).
 
 A file belongs to a dataset when its first bytes are ``SIMPLE  =``. For every HDU astropy opens
-the output lists its kind, layout, selected keyword values and checksum status; for image HDUs
+the output lists its kind, selected keyword values (parsed by astropy from the header bytes as
+stored) and CHECKSUM/DATASUM status (computed with numpy over the stored bytes; astropy's own
+verdict is added where it differs); for image HDUs
 (primary, IMAGE extensions and tile-compressed images, which astropy decodes) the shape
 (NAXIS1 first), the element type, the sha256 of the physical values as little-endian float64 in
 file order (every NaN written as 0x7ff8000000000000), min, max, exact sum, NaN count and, where
@@ -189,13 +191,42 @@ def hdu_kind(hdu):
 CHECKSUM_STATUS = {1: "valid", 0: "invalid", 2: "absent"}
 
 
-def checksum_status(hdu):
+def astropy_checksum_status(hdu):
+    """astropy's verify_checksum/verify_datasum. Note: astropy 5.2.1 sums the header as it
+    re-serialises it, so a card it rewrites on reading makes a correct CHECKSUM look invalid."""
     out = {}
-    for name, method in (("checksum", hdu.verify_checksum), ("datasum", hdu.verify_datasum)):
+    for name, method in (("astropyChecksum", hdu.verify_checksum), ("astropyDatasum", hdu.verify_datasum)):
         try:
             out[name] = CHECKSUM_STATUS.get(method(), "unknown")
         except Exception as exc:  # noqa: BLE001
             out[name] = "astropy-error:" + type(exc).__name__
+    return out
+
+
+def ones_complement_sum(data):
+    """32-bit ones'-complement sum of big-endian words (checksum convention, FITS 4.0 App. J)."""
+    usable = len(data) - len(data) % 4
+    total = int(np.frombuffer(data[:usable], dtype=">u4").astype(np.uint64).sum())
+    while total >> 32:
+        total = (total & 0xFFFFFFFF) + (total >> 32)
+    return total
+
+
+def stored_checksum_status(header, header_bytes, data_bytes):
+    """CHECKSUM/DATASUM checked over the stored bytes with numpy (the HDU must sum to 0xFFFFFFFF;
+    DATASUM must equal the data's sum), independent of how astropy re-serialises the header."""
+    out = {"checksum": "absent", "datasum": "absent"}
+    data_sum = ones_complement_sum(data_bytes)
+    if "CHECKSUM" in header:
+        whole = ones_complement_sum(header_bytes) + data_sum
+        while whole >> 32:
+            whole = (whole & 0xFFFFFFFF) + (whole >> 32)
+        out["checksum"] = "valid" if whole == 0xFFFFFFFF else "invalid"
+    if "DATASUM" in header:
+        try:
+            out["datasum"] = "valid" if int(str(header["DATASUM"]).strip()) == data_sum else "invalid"
+        except Exception:  # noqa: BLE001 - an unreadable DATASUM cannot match
+            out["datasum"] = "invalid"
     return out
 
 
@@ -227,7 +258,7 @@ def pixel_summary(data):
     return out
 
 
-def blank_summary(hdu, raw_header):
+def blank_summary(raw_header, data_bytes):
     """How astropy treats BLANK (integer BITPIX only): stored value, how many stored pixels equal it,
     and whether astropy turned them into NaN (it does when it converts to float, i.e. when the
     data are scaled or BLANK is present without the unsigned convention; FITS 3.0 sec. 4.4.2.5)."""
@@ -237,9 +268,7 @@ def blank_summary(hdu, raw_header):
     blank = int(raw_header["BLANK"])
     dtype = {8: ">u1", 16: ">i2", 32: ">i4", 64: ">i8"}[bitpix]
     count = int(raw_header.get("NAXIS", 0) and np.prod([raw_header["NAXIS%d" % (n + 1)] for n in range(raw_header["NAXIS"])]))
-    with open(hdu._file.name, "rb") as fh:  # stored values, before any scaling
-        fh.seek(hdu._data_offset)
-        stored = np.frombuffer(fh.read(count * abs(bitpix) // 8), dtype=dtype)
+    stored = np.frombuffer(data_bytes[: count * abs(bitpix) // 8], dtype=dtype)  # before any scaling
     out = {"stored": str(blank), "storedCount": int((stored == blank).sum())}
     if raw_header.get("BSCALE", 1) == 1 and raw_header.get("BZERO", 0) == 0:
         # Unscaled integers: astropy goes to float only because BLANK is present; this is the
@@ -251,11 +280,14 @@ def blank_summary(hdu, raw_header):
 def read_file(tag, rel, full):
     record = {"dataset": tag, "path": rel, "bytes": os.path.getsize(full)}
     hdus = []
-    file_warnings = set()
     with warnings.catch_warnings(record=True) as caught, np.errstate(all="ignore"):
         warnings.simplefilter("always")
-        # Pass 1: headers as stored (compressed HDUs as their binary tables), checksums.
+        # Pass 1: each header parsed by astropy's Header.fromstring from the bytes as stored (an
+        # HDUList edits headers: it inserts EXTEND and rewrites cards it "fixes"); compressed
+        # HDUs as their binary tables; checksums.
         raw = []
+        with open(full, "rb") as fh:
+            file_bytes = fh.read()
         try:
             with fits.open(full, memmap=False, lazy_load_hdus=True, disable_image_compression=True) as hl:
                 i = 0
@@ -264,10 +296,21 @@ def read_file(tag, rel, full):
                         hdu = hl[i]
                     except IndexError:
                         break
+                    # Offsets as astropy found them (what HDUList.fileinfo reports as hdrLoc, datLoc,
+                    # datSpan; read directly because fileinfo fails on a header with a bad card).
+                    data_at = hdu._data_offset
+                    header_bytes = file_bytes[hdu._header_offset : data_at]
+                    data_bytes = file_bytes[data_at : data_at + hdu._data_size]
                     try:
-                        raw.append((*keyword_values(hdu.header), checksum_status(hdu), hdu.header.copy(), None))
+                        header = fits.Header.fromstring(header_bytes.decode("latin-1"))
+                        keywords, absent = keyword_values(header)
+                        checks = stored_checksum_status(header, header_bytes, data_bytes)
+                        for name, status in astropy_checksum_status(hdu).items():
+                            if status != checks[name[len("astropy") :].lower()]:
+                                checks[name] = status  # recorded only where astropy disagrees
+                        raw.append((keywords, absent, checks, header, data_bytes, None))
                     except Exception as exc:  # noqa: BLE001
-                        raw.append(({}, [], {}, hdu.header, type(exc).__name__))
+                        raw.append(({}, [], {}, hdu.header, data_bytes, type(exc).__name__))
                     i += 1
         except Exception as exc:  # noqa: BLE001 - astropy refusing the file is a result
             record["astropyError"] = type(exc).__name__
@@ -277,7 +320,7 @@ def read_file(tag, rel, full):
             with fits.open(full, memmap=False, lazy_load_hdus=True) as hl:
                 for i in range(len(raw)):
                     hdu = hl[i]
-                    keywords, absent, checksums, raw_header, header_error = raw[i]
+                    keywords, absent, checksums, raw_header, data_bytes, header_error = raw[i]
                     entry = {"index": i, "kind": hdu_kind(hdu), "keywords": keywords, "absentKeywords": absent, **checksums}
                     if header_error is not None:
                         entry["astropyHeaderError"] = header_error
@@ -292,7 +335,7 @@ def read_file(tag, rel, full):
                             data = hdu.data
                             if data is not None and data.size > 0:
                                 entry["image"] = pixel_summary(data)
-                                blank = blank_summary(hdu, raw_header) if entry["kind"] != "compressed" else None
+                                blank = blank_summary(raw_header, data_bytes) if entry["kind"] != "compressed" else None
                                 if blank is not None:
                                     blank["astropyMadeNaN"] = data.dtype.kind == "f"
                                     entry["image"]["blank"] = blank
