@@ -226,6 +226,18 @@ export function usesHistogram(view: FrameView): boolean {
   );
 }
 
+/** Whether an element of this integer store can equal `v` (else the BLANK test is dropped from the loop). */
+function representable(data: unknown, v: number): boolean {
+  if (!Number.isInteger(v)) return false;
+  if (data instanceof Uint8Array || data instanceof Uint8ClampedArray) return v >= 0 && v <= 255;
+  if (data instanceof Int8Array) return v >= -128 && v <= 127;
+  if (data instanceof Uint16Array) return v >= 0 && v <= 65535;
+  if (data instanceof Int16Array) return v >= -32768 && v <= 32767;
+  if (data instanceof Int32Array) return v >= -2147483648 && v <= 2147483647;
+  if (data instanceof Uint32Array) return v >= 0 && v <= 4294967295;
+  return true;
+}
+
 /**
  * Sample a view: integer data of <= 16 bits (and 32-bit integers spanning <= 2^20 codes) as a histogram,
  * everything else as packed float64 values in the scratch.
@@ -246,8 +258,7 @@ export function sampleView(view: FrameView, opts: SampleOptions = {}, forceValue
     }
     if (layout !== undefined) {
       const counts = new Uint32Array(layout.bins);
-      const inRange = Number.isInteger(blank) && blank >= layout.origin && blank < layout.origin + layout.bins;
-      fillHistogram(view, counts, layout.origin, inRange ? blank : Number.NaN, mask, tally);
+      fillHistogram(view, counts, layout.origin, representable(view.data, blank) ? blank : Number.NaN, mask, tally);
       let lo = 0;
       let hi = layout.bins - 1;
       while (lo <= hi && counts[lo] === 0) lo++;
