@@ -59,7 +59,15 @@ export function readHduHeader(
 }
 
 /** After the last HDU: report leftover bytes that do not form an HDU (a diagnostic, not an error). */
-export function reportTrailing(bytes: Uint8Array, offset: number, hdu: number, sink: DiagnosticSink, base = 0): void {
+export function reportTrailing(
+  bytes: Uint8Array,
+  offset: number,
+  hdu: number,
+  sink: DiagnosticSink,
+  base = 0,
+  /** Length of the leftover region when `bytes` holds only its start (partial reads). */
+  length = bytes.length - offset,
+): void {
   let zero = true;
   for (let i = offset; i < bytes.length; i++) {
     if (bytes[i] !== 0) {
@@ -67,7 +75,7 @@ export function reportTrailing(bytes: Uint8Array, offset: number, hdu: number, s
       break;
     }
   }
-  const n = bytes.length - offset;
+  const n = length;
   if (zero) sink.info('FITS_TRAILING_BYTES', `${n} zero bytes after the last HDU`, { hdu, byte: base + offset });
   else sink.warn('FITS_TRAILING_BYTES', `${n} bytes after the last HDU do not form an HDU`, { hdu, byte: base + offset });
 }
