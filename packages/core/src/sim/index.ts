@@ -46,3 +46,16 @@ export {
   validatePsf,
 } from './scene.js';
 export type { PsfModel, PsfProfile, SatelliteTrail, SkyModel, Star, StarFieldOptions, StarRenderOptions } from './scene.js';
+export { KESTREL_SESSION, WREN_SESSION, SESSION_PRESETS } from './presets.js';
+export type { DefectKind, DefectSpec, ImageTypeNames, LightSetSpec, SessionPreset, SiteModel } from './presets.js';
+export { simulateSession, DEFAULT_FLAT_LEVELS, DEFECT_REASONS } from './session.js';
+export type {
+  Defect,
+  FrameTruth,
+  RenderedFrame,
+  SessionOptions,
+  SessionTruth,
+  SimulatedFrame,
+  SimulatedFrameKind,
+  SimulatedSession,
+} from './session.js';
