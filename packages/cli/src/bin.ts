@@ -1,2 +1,4 @@
 #!/usr/bin/env node
-console.log('subgauge');
+import { main } from './main.js';
+
+process.exitCode = await main(process.argv);
