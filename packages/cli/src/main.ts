@@ -2,6 +2,7 @@ import { Command, CommanderError } from 'commander';
 import { CoreError, describeWhere } from '@subgauge/core';
 import { type CliIo, EXIT_USAGE, processIo } from './context.js';
 import { inspectCommand } from './commands/inspect.js';
+import { simulateCommand } from './commands/simulate.js';
 
 /** A command body: does its work and returns the exit code. */
 export type Run = () => Promise<number>;
@@ -17,7 +18,7 @@ export function buildProgram(io: CliIo, setRun: (run: Run) => void): Command {
     .showHelpAfterError('(run with --help for usage)')
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     .exitOverride();
-  for (const make of [inspectCommand]) {
+  for (const make of [inspectCommand, simulateCommand]) {
     program.addCommand(
       make(io, setRun)
         .exitOverride()
