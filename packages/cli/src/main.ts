@@ -3,6 +3,7 @@ import { CoreError, describeWhere } from '@subgauge/core';
 import { type CliIo, EXIT_USAGE, processIo } from './context.js';
 import { inspectCommand } from './commands/inspect.js';
 import { simulateCommand } from './commands/simulate.js';
+import { demoCommand } from './commands/demo.js';
 
 /** A command body: does its work and returns the exit code. */
 export type Run = () => Promise<number>;
@@ -11,14 +12,13 @@ export type Run = () => Promise<number>;
 export function buildProgram(io: CliIo, setRun: (run: Run) => void): Command {
   const program = new Command('subgauge')
     .description(
-      'Measure astronomical camera frames (FITS): characterize a camera by photon transfer, check whether light\n' +
-        'subs are sky-limited, and audit a night of frames. Run `subgauge demo` to see all of it on simulated data.',
+      'Measure astronomical camera frames (FITS): characterize a camera by photon transfer, check whether light subs are sky-limited, and audit a night of frames. Run `subgauge demo` to see all of it on simulated data.',
     )
     .version('0.1.0')
     .showHelpAfterError('(run with --help for usage)')
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     .exitOverride();
-  for (const make of [inspectCommand, simulateCommand]) {
+  for (const make of [inspectCommand, simulateCommand, demoCommand]) {
     program.addCommand(
       make(io, setRun)
         .exitOverride()

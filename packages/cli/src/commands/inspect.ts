@@ -242,9 +242,9 @@ function renderDetails(io: CliIo, records: readonly InspectFileRecord[], region:
 
 export function inspectCommand(io: CliIo, setRun: (run: Run) => void): Command {
   const cmd = new Command('inspect')
+    .summary('describe FITS files: HDUs, scaling, frame kind, checksums, pixel statistics')
     .description(
-      'Describe FITS files: per HDU the size, BITPIX and scaling, frame kind, exposure, filter, temperature,\n' +
-        'checksum status and pixel statistics. Folders are searched recursively for .fits/.fit/.fts(.gz).',
+      'Describe FITS files: per HDU the size, BITPIX and scaling, frame kind, exposure, filter, temperature, checksum status and pixel statistics. Folders are searched recursively for .fits/.fit/.fts(.gz).',
     )
     .argument('<paths...>', 'FITS files or folders')
     .option('--header', 'print every header card and read no pixel data')

@@ -57,10 +57,9 @@ export async function writeSimulatedSession(
 export function simulateCommand(io: CliIo, setRun: (run: Run) => void): Command {
   const presets = Object.keys(SESSION_PRESETS);
   const cmd = new Command('simulate')
+    .summary('write a synthetic session with known truth for an invented camera')
     .description(
-      'Write a synthetic session for a made-up camera into <dir>: bias pairs, dark pairs at several exposures,\n' +
-        'flat pairs from 5 % to past full well, and light frames with some injected defects, plus truth.json\n' +
-        'with every true parameter. Useful to learn the tool and to test it against known answers.',
+      'Write a synthetic session for a made-up camera into <dir>: bias pairs, dark pairs at several exposures, flat pairs from 5 % to past full well, and light frames with some injected defects, plus truth.json with every true parameter. Useful to learn the tool and to test it against known answers.',
     )
     .argument('<dir>', 'output folder (created if missing)')
     .addOption(new Option('--preset <name>', 'camera and session preset').choices(presets).default(presets[0]))
