@@ -391,6 +391,8 @@ export interface ExpectedStatsOptions {
   prnu?: boolean;
   /** Average over the DSNU distribution (default true). */
   dsnu?: boolean;
+  /** Always sum over the distributions, even where the closed form holds (for verification; slower). */
+  forceSummation?: boolean;
 }
 
 /** Expected statistics of a uniformly lit frame (or a pair of them), in file ADU. */
@@ -432,8 +434,9 @@ const DSNU_NODES = equalProbabilityNodes(5);
  * variance), sum over the Poisson count n (exact pmf, λ ± 10√λ) of the moments of the quantized, clipped
  * Gaussian read-out. Where the read-out is at least 9σ from both ADC ends and σ >= 1 native code,
  * Sheppard's result E[Q] = μ, Var[Q] = σ² + 1/12 is used (its error is below 2e^(-2π²σ²) ≈ 5e-9 of a code²);
- * otherwise the code probabilities Φ((k ± ½ - μ)/σ) are summed. Node averaging is exact for the linear
- * regime and accurate to ~1e-4 relative in roll-off and clipping.
+ * otherwise the code probabilities Φ((k ± ½ - μ)/σ) are summed. Node averaging is accurate to ~1e-4
+ * relative in roll-off and clipping. When every class is in the linear regime (all likely counts below the
+ * knee, read-out well inside the ADC range) the result is the closed form of REFERENCE.md B.1 directly.
  */
 export function expectedFlatStats(camera: CameraModel, signalElectrons: number, options: ExpectedStatsOptions = {}): ExpectedFlatStats {
   const binning = options.binning ?? 1;
@@ -447,7 +450,20 @@ export function expectedFlatStats(camera: CameraModel, signalElectrons: number, 
   const dsnuSigma = camera.dsnuElectrons * binning; // block sum of b² independent offsets: σ·b
   const dsnuNodes = options.dsnu === false || dsnuSigma === 0 ? new Float64Array(1) : DSNU_NODES;
   const offsetE = camera.offsetAdu * gain;
-  const mu0 = (offsetE + collectedElectrons(camera, signalElectrons + darkE, binning)) / gN;
+  const S = signalElectrons + darkE;
+  const linearMeanAdu = camera.offsetAdu + S / gain;
+  const linearVarianceAdu2 = S / (gain * gain) + (camera.readNoiseElectrons / gain) ** 2 + (step * step) / 12;
+  // Linear regime (every pixel class and every likely count below the knee, read-out ≥ 9σ inside the ADC
+  // range, σ ≥ 1 code): mean and variance are linear in λ, so the class average is the closed form.
+  const lamMax = Math.max(0, signalElectrons * (1 + 8 * camera.prnuFraction)) + darkE;
+  const nMax = lamMax + 10 * Math.sqrt(lamMax) + 10;
+  const knee = camera.fullWellKneeFraction * camera.fullWellElectrons * binning * binning;
+  const muLo = (offsetE - 8 * dsnuSigma) / gN;
+  const muHi = (offsetE + 8 * dsnuSigma + nMax) / gN;
+  if (!options.forceSummation && sigma >= 1 && nMax <= knee && muLo - 9 * sigma > 0.5 && muHi + 9 * sigma < maxCode - 0.5) {
+    return { meanAdu: linearMeanAdu, temporalVarianceAdu2: linearVarianceAdu2, linearMeanAdu, linearVarianceAdu2, saturatedFraction: 0 };
+  }
+  const mu0 = (offsetE + collectedElectrons(camera, S, binning)) / gN;
   let m1 = 0;
   let m2 = 0;
   let tVar = 0;
@@ -455,8 +471,9 @@ export function expectedFlatStats(camera: CameraModel, signalElectrons: number, 
   const classes = prnuNodes.length * dsnuNodes.length;
   for (const zp of prnuNodes) {
     const lambda = Math.max(0, signalElectrons * (1 + camera.prnuFraction * zp)) + darkE;
+    const pmf = poissonPmf(lambda);
     for (const zd of dsnuNodes) {
-      const r = pixelMoments(camera, lambda, offsetE + dsnuSigma * zd, gN, sigma, maxCode, binning, mu0);
+      const r = pixelMoments(camera, pmf, offsetE + dsnuSigma * zd, gN, sigma, maxCode, binning, mu0);
       m1 += r.mean;
       m2 += r.second;
       tVar += r.second - r.mean * r.mean;
@@ -466,20 +483,42 @@ export function expectedFlatStats(camera: CameraModel, signalElectrons: number, 
   m1 /= classes;
   m2 /= classes;
   tVar /= classes;
-  const S = signalElectrons + darkE;
   return {
     meanAdu: (mu0 + m1) * step,
     temporalVarianceAdu2: tVar * step * step,
-    linearMeanAdu: camera.offsetAdu + S / gain,
-    linearVarianceAdu2: S / (gain * gain) + (camera.readNoiseElectrons / gain) ** 2 + (step * step) / 12,
+    linearMeanAdu,
+    linearVarianceAdu2,
     saturatedFraction: sat / classes,
   };
 }
 
-// Moments of (Q - mu0) for one pixel class: Q = clamp(round((offset + c(n) + σ_R z)/gN)), n ~ Poisson(λ).
+interface PoissonPmf {
+  first: number;
+  p: Float64Array;
+}
+
+// Poisson pmf over λ ± (10√λ + 10), normalised, by the recurrence p(n) = p(n - 1) λ / n from the mode.
+function poissonPmf(lambda: number): PoissonPmf {
+  if (!(lambda > 0)) return { first: 0, p: Float64Array.of(1) };
+  const sd = Math.sqrt(lambda);
+  const lo = Math.max(0, Math.floor(lambda - 10 * sd - 10));
+  const hi = Math.ceil(lambda + 10 * sd + 10);
+  const p = new Float64Array(hi - lo + 1);
+  const mode = Math.floor(lambda);
+  const m = mode - lo;
+  p[m] = Math.exp(mode * Math.log(lambda) - lambda - logFactorial(mode));
+  for (let i = m + 1; i < p.length; i++) p[i] = ((p[i - 1] ?? 0) * lambda) / (lo + i);
+  for (let i = m - 1; i >= 0; i--) p[i] = ((p[i + 1] ?? 0) * (lo + i + 1)) / lambda;
+  let sum = 0;
+  for (const v of p) sum += v;
+  for (let i = 0; i < p.length; i++) p[i] = (p[i] ?? 0) / sum;
+  return { first: lo, p };
+}
+
+// Moments of (Q - mu0) for one pixel class: Q = clamp(round((offset + c(n) + σ_R z)/gN)), n ~ pmf.
 function pixelMoments(
   camera: CameraModel,
-  lambda: number,
+  pmf: PoissonPmf,
   offsetE: number,
   gN: number,
   sigma: number,
@@ -487,29 +526,35 @@ function pixelMoments(
   binning: number,
   mu0: number,
 ): { mean: number; second: number; saturated: number } {
-  let lo = 0;
-  let hi = 0;
-  if (lambda > 0) {
-    const sd = Math.sqrt(lambda);
-    lo = Math.max(0, Math.floor(lambda - 10 * sd - 10));
-    hi = Math.ceil(lambda + 10 * sd + 10);
-  }
-  const logLambda = lambda > 0 ? Math.log(lambda) : 0;
-  let sp = 0;
+  const w = camera.fullWellElectrons * binning * binning;
+  const knee = camera.fullWellKneeFraction * w;
+  const span = w - knee;
+  const sheppardLo = 9 * sigma + 0.5;
+  const sheppardHi = maxCode - 0.5 - 9 * sigma;
+  const quantVar = sigma * sigma + 1 / 12;
+  const fast = sigma >= 1;
   let s1 = 0;
   let s2 = 0;
   let sSat = 0;
-  for (let n = lo; n <= hi; n++) {
-    const p = lambda > 0 ? Math.exp(n * logLambda - lambda - logFactorial(n)) : n === 0 ? 1 : 0;
-    if (p < 1e-300) continue;
-    const mu = (offsetE + collectedElectrons(camera, n, binning)) / gN;
+  const p = pmf.p;
+  for (let i = 0; i < p.length; i++) {
+    const pi = p[i] ?? 0;
+    if (pi < 1e-300) continue;
+    const n = pmf.first + i;
+    const c = n <= knee ? n : knee + span * Math.tanh((n - knee) / span);
+    const mu = (offsetE + c) / gN;
+    if (fast && mu > sheppardLo && mu < sheppardHi) {
+      const d = mu - mu0;
+      s1 += pi * d;
+      s2 += pi * (d * d + quantVar);
+      continue;
+    }
     const q = quantizedMoments(mu, sigma, maxCode, mu0);
-    sp += p;
-    s1 += p * q.mean;
-    s2 += p * q.second;
-    sSat += p * q.saturated;
+    s1 += pi * q.mean;
+    s2 += pi * q.second;
+    sSat += pi * q.saturated;
   }
-  return { mean: s1 / sp, second: s2 / sp, saturated: sSat / sp };
+  return { mean: s1, second: s2, saturated: sSat };
 }
 
 // Moments of (Q - c) for Q = clamp(round(mu + sigma Z), 0, M).

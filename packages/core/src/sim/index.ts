@@ -51,6 +51,7 @@ export type { DefectKind, DefectSpec, ImageTypeNames, LightSetSpec, SessionPrese
 export { simulateSession, DEFAULT_FLAT_LEVELS, DEFECT_REASONS } from './session.js';
 export type {
   Defect,
+  ExpectedPairLevel,
   FrameTruth,
   RenderedFrame,
   SessionOptions,

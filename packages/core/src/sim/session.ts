@@ -10,6 +10,7 @@ import {
   adcMaxAdu,
   buildFixedPattern,
   darkCurrentAt,
+  expectedFlatStats,
   exposeSensor,
   nativeGainElectronsPerAdu,
   quantizationStepAdu,
@@ -148,8 +149,23 @@ export interface SessionTruth {
   };
   lights: LightSetSpec[];
   hotPixels: SimulatedHotPixel[];
+  /**
+   * Expected pair statistics from `expectedFlatStats` (file ADU; pixels without hot pixels and amp glow;
+   * for colour sensors per CFA channel). Means include the offset; variances are E[Var(A - B)/2].
+   */
+  expected: {
+    bias: ExpectedPairLevel;
+    flatPairs: (ExpectedPairLevel & { pair: number; exposureSeconds: number; channel: 'mono' | 'R' | 'G' | 'B'; signalElectrons: number; darkElectrons: number })[];
+    darkPairs: (ExpectedPairLevel & { pair: number; exposureSeconds: number; temperatureC: number; darkElectrons: number })[];
+  };
   counts: Record<SimulatedFrameKind, number>;
   frames: FrameTruth[];
+}
+
+export interface ExpectedPairLevel {
+  meanAdu: number;
+  temporalVarianceAdu2: number;
+  saturatedFraction: number;
 }
 
 /** Pixels and header cards of one rendered frame (ready for the FITS writer). */
@@ -547,6 +563,37 @@ export function simulateSession(options: SessionOptions = {}): SimulatedSession 
 
   const frames: SimulatedFrame[] = truths.map((ft) => ({ file: ft.file, kind: ft.kind, truth: ft, render: () => renderFrame(ft) }));
   const step = quantizationStepAdu(camera);
+  const level = (signal: number, dark: number): ExpectedPairLevel => {
+    const e = expectedFlatStats(camera, signal, { darkElectrons: dark });
+    return { meanAdu: e.meanAdu, temporalVarianceAdu2: e.temporalVarianceAdu2, saturatedFraction: e.saturatedFraction };
+  };
+  const bayer = camera.bayer;
+  const channels: { channel: 'mono' | 'R' | 'G' | 'B'; response: number }[] = bayer
+    ? [
+        { channel: 'R', response: bayer.redResponse },
+        { channel: 'G', response: bayer.greenResponse },
+        { channel: 'B', response: bayer.blueResponse },
+      ]
+    : [{ channel: 'mono', response: 1 }];
+  const firstOfPair = (kind: SimulatedFrameKind) => truths.filter((f, i) => f.kind === kind && truths.findIndex((g) => g.kind === kind && g.pair === f.pair) === i);
+  const expected: SessionTruth['expected'] = {
+    bias: level(0, 0),
+    flatPairs: firstOfPair('flat').flatMap((f) => {
+      const dark = f.darkCurrentElectronsPerSecond * f.exposureSeconds;
+      return channels.map((c) => ({
+        pair: f.pair ?? 0,
+        exposureSeconds: f.exposureSeconds,
+        channel: c.channel,
+        signalElectrons: f.signalElectrons * c.response,
+        darkElectrons: dark,
+        ...level(f.signalElectrons * c.response, dark),
+      }));
+    }),
+    darkPairs: firstOfPair('dark').map((f) => {
+      const dark = f.darkCurrentElectronsPerSecond * f.exposureSeconds;
+      return { pair: f.pair ?? 0, exposureSeconds: f.exposureSeconds, temperatureC: f.temperatureC, darkElectrons: dark, ...level(0, dark) };
+    }),
+  };
   const truth: SessionTruth = {
     schema: 'subgauge.sim-truth/1',
     presetId,
@@ -582,6 +629,7 @@ export function simulateSession(options: SessionOptions = {}): SimulatedSession 
     },
     lights: lightSets,
     hotPixels,
+    expected,
     counts: { ...counters },
     frames: truths,
   };

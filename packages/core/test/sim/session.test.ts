@@ -182,6 +182,36 @@ describe('simulateSession', () => {
     }
   });
 
+  it('simulateSession() truth.expected gives every flat pair per channel and matches a simulated dark pair', () => {
+    expect(kestrel.truth.expected.flatPairs.length).toBe(12);
+    expect(wren.truth.expected.flatPairs.length).toBe(36);
+    expect(new Set(wren.truth.expected.flatPairs.map((p) => p.channel))).toEqual(new Set(['R', 'G', 'B']));
+    expect(kestrel.truth.expected.bias.meanAdu).toBeCloseTo(KESTREL_M14.offsetAdu, 6);
+    expect(kestrel.truth.expected.darkPairs.length).toBe(6);
+    const last = kestrel.truth.expected.darkPairs[2];
+    if (!last) throw new Error('missing dark pair');
+    const pair = kestrel.frames.filter((f) => f.kind === 'dark' && f.truth.pair === last.pair);
+    expect(pair.length).toBe(2);
+    const a = pair[0]?.render().pixels ?? new Uint16Array();
+    const b = pair[1]?.render().pixels ?? new Uint16Array();
+    const w = kestrel.truth.camera.width;
+    const hot = new Set(kestrel.truth.hotPixels.map((h) => h.y * w + h.x));
+    let n = 0;
+    let sum = 0;
+    let sum2 = 0;
+    for (let i = 0; i < a.length; i++) {
+      if (hot.has(i)) continue;
+      const m = ((a[i] ?? 0) + (b[i] ?? 0)) / 2;
+      n++;
+      sum += m;
+      sum2 += m * m;
+    }
+    const mean = sum / n;
+    const se = Math.sqrt((sum2 / n - mean * mean) / n);
+    expect(Math.abs(mean - last.meanAdu)).toBeLessThan(Z * se);
+    expect(last.meanAdu - kestrel.truth.expected.bias.meanAdu).toBeCloseTo(last.darkElectrons / KESTREL_M14.gainElectronsPerAdu, 3);
+  });
+
   it('a simulated light carries the star flux of the truth (stars minus no stars, Kestrel M14)', () => {
     const opts = { seed: 9, noDefects: true, starFluxRange: { minElectronsPerSecond: 50, maxElectronsPerSecond: 250 } };
     const withStars = simulateSession(opts);
