@@ -11,3 +11,5 @@ export type { BackgroundModeOptions, BackgroundModeResult, RobustZResult } from 
 export { backgroundMode, robustZScores } from './mode.js';
 export type { FrameStatsOptions, FrameStats } from './frameStats.js';
 export { frameStats } from './frameStats.js';
+export type { BoxMedianMesh, BackgroundMeshOptions, MeshGradient, BackgroundMesh } from './mesh.js';
+export { boxMedianMesh, backgroundMesh, meshLevelAt, renderMeshMap } from './mesh.js';
