@@ -238,9 +238,9 @@ export function buildFixedPattern(camera: CameraModel, binning = 1): FixedPatter
   const W = camera.width;
   const H = camera.height;
   const n = W * H;
-  const prnu = new Float64Array(n);
+  const prnu = new Float32Array(n);
   new Rng(mixSeed(camera.fixedPatternSeed, 1)).addNormal(prnu, camera.prnuFraction);
-  const dsnu = new Float64Array(n);
+  const dsnu = new Float32Array(n);
   new Rng(mixSeed(camera.fixedPatternSeed, 2)).addNormal(dsnu, camera.dsnuElectrons);
   const hotPixels = drawHotPixels(camera);
   const b = binning;
