@@ -11,6 +11,9 @@ export default defineConfig({
     ],
   },
   test: {
+    // CI asks for a JSON report too (SUBGAUGE_TEST_JSON=path) so .ci/run can print "N passed, N failed".
+    reporters: process.env.SUBGAUGE_TEST_JSON ? ['default', 'json'] : ['default'],
+    outputFile: process.env.SUBGAUGE_TEST_JSON ? { json: process.env.SUBGAUGE_TEST_JSON } : {},
     include: ['packages/*/test/**/*.test.ts', 'test/**/*.test.ts'],
     testTimeout: 60_000,
     hookTimeout: 120_000,
