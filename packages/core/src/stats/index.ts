@@ -13,3 +13,7 @@ export type { FrameStatsOptions, FrameStats } from './frameStats.js';
 export { frameStats } from './frameStats.js';
 export type { BoxMedianMesh, BackgroundMeshOptions, MeshGradient, BackgroundMesh } from './mesh.js';
 export { boxMedianMesh, backgroundMesh, meshLevelAt, renderMeshMap } from './mesh.js';
+export type { CcdEquationInput, PixelRect, CircularAperture, RegionSnrOptions, RegionSnr } from './snr.js';
+export { ccdEquationSnr, regionSnr } from './snr.js';
+export type { DataFacts } from './dataFacts.js';
+export { dataFacts } from './dataFacts.js';
