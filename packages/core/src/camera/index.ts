@@ -24,3 +24,13 @@ export type {
   CameraFrame, KindOverrides, LeftOutReason, LeftOutFrame, SortedFrame, FrameGroup, FramePair, SortedCameraFrames, SortOptions,
 } from './sortFrames.js';
 export { sortCameraFrames } from './sortFrames.js';
+export type {
+  CameraOptions, CurvePointExclusion, CurvePoint, GainSpread, TileGain, PtcFitSummary, BiasMeasurement, FullWellMeasurement,
+  LinearityMeasurement, PrnuMeasurement, DsnuMeasurement, DarkLevel, DarkTemperatureMeasurement, HotPixelMeasurement,
+  FrameEdge, AmpGlowMeasurement, DarkMeasurement, CameraMeasurement, CfaChannelName, ChannelMeasurement, CameraFrameUse,
+  CameraSettings, CameraResult, BiasFrameMeasurement, FlatFrameScreen,
+} from './types.js';
+export type { CameraFrameScreen } from './characterize.js';
+export { characterizeCamera, measureBiasFrame, screenFlatFrame, screenCameraFrames } from './characterize.js';
+export type { CameraProfile, CameraProfileChannel } from './profile.js';
+export { cameraProfileFromResult, parseCameraProfile } from './profile.js';

@@ -92,7 +92,7 @@ export function findVariancePeak(points: readonly PtcInputPoint[]): VariancePeak
 }
 
 /** Weighted fit with weights (N−1)/(2ŷ²) = 1/Var(y) (REFERENCE B.5/B.11), ŷ re-estimated from the fit twice. */
-function weightedPtcFit(points: readonly PtcInputPoint[], use: readonly number[]): LineFit {
+export function weightedPtcFit(points: readonly PtcInputPoint[], use: readonly number[]): LineFit {
   const x = use.map((i) => points[i]!.signalAdu);
   const y = use.map((i) => points[i]!.varianceAdu2);
   const n = use.map((i) => points[i]!.pixelCount);
