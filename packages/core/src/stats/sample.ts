@@ -70,7 +70,27 @@ export function fillHistogram(
   // A BLANK that no element can equal is dropped from the loop: comparing integer elements with NaN would
   // force float compares and double the cost of this pass.
   const hasBlank = blank === blank;
-  if (mask === undefined && !hasBlank) {
+  if (mask === undefined && !hasBlank && sx === 1 && w * h >= 1 << 16) {
+    // Large contiguous rows: four interleaved histograms break the store-to-load chain of repeated
+    // increments of the same bin (sky pixels crowd a few hundred codes); merged at the end.
+    const bins = counts.length;
+    const c1 = new Uint32Array(bins);
+    const c2 = new Uint32Array(bins);
+    const c3 = new Uint32Array(bins);
+    for (let y = 0; y < h; y++) {
+      let i = view.offset + y * sy;
+      const end = i + w;
+      const end4 = end - (w % 4);
+      for (; i < end4; i += 4) {
+        (counts[(data[i] as number) - origin] as number)++;
+        (c1[(data[i + 1] as number) - origin] as number)++;
+        (c2[(data[i + 2] as number) - origin] as number)++;
+        (c3[(data[i + 3] as number) - origin] as number)++;
+      }
+      for (; i < end; i++) (counts[(data[i] as number) - origin] as number)++;
+    }
+    for (let b = 0; b < bins; b++) counts[b] = (counts[b] as number) + (c1[b] as number) + (c2[b] as number) + (c3[b] as number);
+  } else if (mask === undefined && !hasBlank) {
     for (let y = 0; y < h; y++) {
       let i = view.offset + y * sy;
       if (sx === 1) {

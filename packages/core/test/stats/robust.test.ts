@@ -135,6 +135,22 @@ describe('statistics over views', () => {
     }
   }
 
+  it('medianAbsoluteDeviation(view) on a large uint16 frame (interleaved histogram path) equals the selection path', () => {
+    const rng2 = new XorShift32(99);
+    const w = 301;
+    const h = 250;
+    const big = new Uint16Array(w * h);
+    for (let i = 0; i < big.length; i++) big[i] = Math.round(5000 + 40 * rng2.normal()) + (i % 997 === 0 ? 60000 - 5000 : 0);
+    const view = viewOf(big, w, h);
+    const hist = sampleView(view);
+    expect(hist.kind).toBe('histogram');
+    expect(hist.n).toBe(w * h);
+    const viaHist = medianAbsoluteDeviation(view);
+    const viaValues = medianAbsoluteDeviation(viewOf(Float64Array.from(big), w, h));
+    expect(viaHist).toEqual(viaValues);
+    expect(moments(view).mean).toBeCloseTo(moments(Float64Array.from(big)).mean, 9);
+  });
+
   it('moments(view) counts NaN, BLANK and masked pixels separately', () => {
     const m = moments(new Float64Array([1, Number.NaN, 3, -1, Infinity, 5]), { blankValue: -1 });
     expect(m).toMatchObject({ totalCount: 6, validCount: 3, nanCount: 1, blankCount: 1, infiniteCount: 1 });
