@@ -26,9 +26,9 @@ function valid(y: number, mo: number, d: number, h: number, mi: number, s: numbe
  *
  * @param text - the keyword value (surrounding spaces ignored; a trailing 'Z' accepted).
  * @returns the date, or undefined when the text is not a valid FITS date.
- * @example parseFitsDate('2024-03-01T21:05:33.123')?.mjd // 60370.87885559028
+ * @example readFitsDate('2024-03-01T21:05:33.123')?.mjd // 60370.87885559028
  */
-export function parseFitsDate(text: string): FitsDate | undefined {
+export function readFitsDate(text: string): FitsDate | undefined {
   const t = text.trim();
   let y: number, mo: number, d: number;
   let h = 0, mi = 0, s = 0;

@@ -7,6 +7,6 @@ export { parseCard } from './card.js';
 export { encodeFits, formatCard, formatCards } from './write.js';
 export { onesComplementSum, onesComplementAdd, encodeChecksum, datasumOf } from './checksum.js';
 export { BLOCK_BYTES, CARD_BYTES, DEFAULT_MAX_PIXELS, paddedLength } from './constants.js';
-export { parseFitsDate } from './dates.js';
+export { readFitsDate } from './dates.js';
 export type { FitsDate } from './dates.js';
 export { tileDitherRandoms } from './dither.js';

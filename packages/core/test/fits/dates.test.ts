@@ -1,23 +1,23 @@
 import { describe, expect, it } from 'vitest';
-import { parseFitsDate, tileDitherRandoms } from '../../src/fits/index.js';
+import { readFitsDate, tileDitherRandoms } from '../../src/fits/index.js';
 
-describe('parseFitsDate (FITS 3.0 §4.4.2.1; IAU FWG Y2K agreement)', () => {
-  it("parseFitsDate('2024-03-01T21:05:33.123') is MJD 60370.87885559028 (astropy 5.2.1 Time; G row 20)", () => {
-    expect(parseFitsDate('2024-03-01T21:05:33.123')!.mjd).toBeCloseTo(60370.87885559028, 9);
+describe('readFitsDate (FITS 3.0 §4.4.2.1; IAU FWG Y2K agreement)', () => {
+  it("readFitsDate('2024-03-01T21:05:33.123') is MJD 60370.87885559028 (astropy 5.2.1 Time; G row 20)", () => {
+    expect(readFitsDate('2024-03-01T21:05:33.123')!.mjd).toBeCloseTo(60370.87885559028, 9);
     // More values from astropy 5.2.1 Time(..., scale='utc').mjd.
-    expect(parseFitsDate('2000-01-01T12:00:00')!.mjd).toBe(51544.5);
-    expect(parseFitsDate('2024-02-29')!.mjd).toBe(60369);
-    expect(parseFitsDate('1999-12-31T23:59:59.999999')!.mjd).toBeCloseTo(51543.999999999985, 9);
+    expect(readFitsDate('2000-01-01T12:00:00')!.mjd).toBe(51544.5);
+    expect(readFitsDate('2024-02-29')!.mjd).toBe(60369);
+    expect(readFitsDate('1999-12-31T23:59:59.999999')!.mjd).toBeCloseTo(51543.999999999985, 9);
   });
 
-  it("parseFitsDate(text) keeps milliseconds in unixMs and reads 'DD/MM/YY' as 1900-1999", () => {
-    expect(parseFitsDate(' 2024-03-01T21:05:33.123 ')!.unixMs).toBe(Date.UTC(2024, 2, 1, 21, 5, 33, 123));
-    expect(parseFitsDate('31/12/98')).toMatchObject({ legacy: true, unixMs: Date.UTC(1998, 11, 31) });
+  it("readFitsDate(text) keeps milliseconds in unixMs and reads 'DD/MM/YY' as 1900-1999", () => {
+    expect(readFitsDate(' 2024-03-01T21:05:33.123 ')!.unixMs).toBe(Date.UTC(2024, 2, 1, 21, 5, 33, 123));
+    expect(readFitsDate('31/12/98')).toMatchObject({ legacy: true, unixMs: Date.UTC(1998, 11, 31) });
   });
 
-  it('parseFitsDate(text) returns undefined for dates FITS does not allow', () => {
+  it('readFitsDate(text) returns undefined for dates FITS does not allow', () => {
     for (const t of ['2024-3-01', '2024-02-30', '2024-13-01', '2024-03-01T25:00:00', '2024-03-01 21:05:33', 'yesterday', '']) {
-      expect(parseFitsDate(t), t).toBeUndefined();
+      expect(readFitsDate(t), t).toBeUndefined();
     }
   });
 });
