@@ -1,2 +1,29 @@
 // Public API of the stars area; re-exports only (owned by the stars work).
-export {};
+export type {
+  NumericPixels,
+  LevelMap,
+  StarImage,
+  DetectStarsOptions,
+  PixelBox,
+  StarSource,
+  StarDetection,
+  StarSummaryOptions,
+  StarFieldSummary,
+  DetectTrailsOptions,
+  Trail,
+  TrailDetection,
+} from './types.js';
+export { labelComponents } from './label.js';
+export type { LabelResult } from './label.js';
+export {
+  GAUSSIAN_FWHM_PER_SIGMA,
+  gaussianFwhm,
+  gaussianHalfFluxRadius,
+  moffatFwhm,
+  moffatHalfFluxRadius,
+  shapeFromMoments,
+  imageMoments,
+} from './profiles.js';
+export type { MomentShape, ImageMoments } from './profiles.js';
+export { detectStars, defaultSaturationAdu } from './detect.js';
+export { summarizeStars } from './summary.js';
