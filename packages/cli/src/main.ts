@@ -4,6 +4,7 @@ import { type CliIo, EXIT_USAGE, processIo } from './context.js';
 import { inspectCommand } from './commands/inspect.js';
 import { simulateCommand } from './commands/simulate.js';
 import { demoCommand } from './commands/demo.js';
+import { cameraCommand } from './commands/camera.js';
 
 /** A command body: does its work and returns the exit code. */
 export type Run = () => Promise<number>;
@@ -18,7 +19,7 @@ export function buildProgram(io: CliIo, setRun: (run: Run) => void): Command {
     .showHelpAfterError('(run with --help for usage)')
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     .exitOverride();
-  for (const make of [inspectCommand, simulateCommand, demoCommand]) {
+  for (const make of [inspectCommand, cameraCommand, simulateCommand, demoCommand]) {
     program.addCommand(
       make(io, setRun)
         .exitOverride()
