@@ -19,7 +19,7 @@ export { AUDIT_REASONS, SCORED_METRICS } from './types.js';
 export type { AuditLimits, AuditLimitsInput } from './limits.js';
 export { DEFAULT_AUDIT_LIMITS, parseAuditLimits } from './limits.js';
 export type { SessionReference, SessionZScores } from './robust.js';
-export { sessionZScores, medianOf } from './robust.js';
+export { sessionZScores } from './robust.js';
 export type { FrameZScores, QualitySet } from './quality.js';
 export { Z_SCALE_ABSOLUTE_FLOORS } from './quality.js';
 export type {

@@ -1,5 +1,6 @@
 import { describe, expect, test } from 'vitest';
-import { MAD_SIGMA_SCALE, medianOf, sessionZScores } from '@subgauge/core';
+import { MAD_SIGMA_SCALE, sessionZScores } from '@subgauge/core';
+import { medianOf } from '../../src/audit/robust.js';
 
 describe('sessionZScores', () => {
   test('sessionZScores([101, 99, 100, 102, 98, 100, 130], 0.01, 1e-9) gives z(130) = 20.2347 (REFERENCE G row 58, numpy CALC)', () => {

@@ -238,6 +238,20 @@ describe('auditSession on nights with injected defects', () => {
   });
 });
 
+describe('auditSession with MAD = 0', () => {
+  test('auditSession(frames with identical metrics but two) divides by the 1 % floor and flags only the large deviation', () => {
+    const frames = cleanNight(41, { frames: 10 }).map((f) => ({ ...f, starCount: 800, fwhmPixels: 3, elongation: 1.1, backgroundAdu: 1700 }));
+    (frames[2] as FrameMetrics).starCount = 784; // -2 %: z = -16 / (0.01 x 800) = -2
+    (frames[5] as FrameMetrics).fwhmPixels = 3.9; // +30 %: z = 0.9 / 0.03 = 30
+    const r = auditSession({ lights: frames, calibration: matchingCalibration() });
+    expect(r.qualitySets[0]?.references.starCount).toMatchObject({ madSigma: 0, scale: 8, scaleSource: 'floor' });
+    expect(r.frames[2]?.zScores.starCount).toBeCloseTo(-2, 12);
+    expect(r.frames[2]?.reasons).toEqual([]);
+    expect(r.frames[5]?.zScores.fwhmPixels).toBeCloseTo(30, 9);
+    expect(r.frames[5]?.reasons).toEqual(['soft-focus']);
+  });
+});
+
 describe('auditSession does not depend on input order', () => {
   test('auditSession(any permutation of a night) gives every file the same verdict, reasons and details', () => {
     const { lights } = defectNight(31, 52);
