@@ -11,7 +11,9 @@ export interface ParsedCard {
   card: Card;
   /** For string values: the characters between the quotes, quotes undoubled, trailing spaces kept. */
   stringContent?: string;
-  problems: CardProblem[];
+  problems: readonly CardProblem[];
+  /** The keyword in upper case (the lookup key). */
+  upper: string;
 }
 
 const COMMENTARY = new Set(['COMMENT', 'HISTORY', '']);
@@ -21,10 +23,13 @@ const INTEGER_RE = /^[+-]?[0-9]+$/;
 // lower-case e/d accepted as reader leniency (REFERENCE A.3, common practice).
 const REAL_RE = /^[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[EeDd][+-]?[0-9]+)?$/;
 
-/** The 80 characters of the card starting at byte `offset`, one char per byte. */
-export function cardText(bytes: Uint8Array, offset: number): string {
-  // Latin-1 style: one UTF-16 unit per byte, so positions stay byte positions.
-  return String.fromCharCode.apply(null, bytes.subarray(offset, offset + 80) as unknown as number[]);
+// WHATWG 'latin1' is windows-1252: still one UTF-16 unit per byte, so positions stay byte positions
+// (0x80-0x9F become other characters, but those bytes are illegal in headers anyway).
+const LATIN1 = new TextDecoder('latin1');
+
+/** Bytes as text, one UTF-16 unit per byte, so character positions are byte positions. */
+export function bytesText(bytes: Uint8Array, start: number, end: number): string {
+  return LATIN1.decode(bytes.subarray(start, end));
 }
 
 /** Parse a number token of a value field; undefined when it is not an integer or real. */
@@ -109,31 +114,41 @@ export function parseValueField(text: string): ValueField {
   return { kind: 'value', value: n, comment };
 }
 
+const NON_PRINTABLE = /[^\x20-\x7e]/;
+const LOWER = /[a-z]/;
+const NONE: readonly CardProblem[] = Object.freeze([]);
+
+function withProblem(problems: readonly CardProblem[], p: CardProblem): CardProblem[] {
+  return problems === NONE ? [p] : [...problems, p];
+}
+
 /**
  * Parse one 80-character card (FITS 3.0 §4.1-4.2, HIERARCH and CONTINUE conventions).
  * CONTINUE cards are returned as commentary; the header reader merges them into long strings.
+ *
+ * @param raw - the 80 characters of the card, one per byte.
+ * @param index - 1-based position of the card in its header.
+ * @example parseCard("OBJECT  = 'O''HARA  '".padEnd(80), 1).card.value // "O'HARA"
  */
-export function parseCard(raw: string, index: number): ParsedCard {
-  const problems: CardProblem[] = [];
-  for (let i = 0; i < raw.length; i++) {
-    const c = raw.charCodeAt(i);
-    if (c < 0x20 || c > 0x7e) {
-      problems.push({ code: 'FITS_ILLEGAL_CHARACTER', message: `byte 0x${c.toString(16).padStart(2, '0')} at column ${i + 1}` });
-      break;
-    }
+export function parseCard(raw: string, index: number, checkCharacters = true): ParsedCard {
+  let problems = NONE;
+  if (checkCharacters && NON_PRINTABLE.test(raw)) {
+    const at = raw.search(NON_PRINTABLE);
+    const c = raw.charCodeAt(at);
+    problems = withProblem(problems, { code: 'FITS_ILLEGAL_CHARACTER', message: `byte 0x${c.toString(16).padStart(2, '0')} at column ${at + 1}` });
   }
   const field = raw.slice(0, 8).trimEnd();
-  const upper = field.toUpperCase();
-  if (upper === 'END' && field === 'END') {
-    return { card: { index, keyword: 'END', kind: 'end', value: null, comment: '', raw }, problems };
-  }
-  if (field !== upper) problems.push({ code: 'FITS_LOWERCASE_KEYWORD', message: `keyword '${field}' is not upper case` });
-  else if (!KEYWORD_RE.test(field)) {
-    problems.push({ code: 'FITS_NONSTANDARD_CARD', message: `keyword '${field}' has characters outside A-Z 0-9 - _` });
+  if (field === 'END') return { card: { index, keyword: 'END', kind: 'end', value: null, comment: '', raw }, problems, upper: 'END' };
+  let upper = field;
+  if (LOWER.test(field)) {
+    upper = field.toUpperCase();
+    problems = withProblem(problems, { code: 'FITS_LOWERCASE_KEYWORD', message: `keyword '${field}' is not upper case` });
+  } else if (!KEYWORD_RE.test(field)) {
+    problems = withProblem(problems, { code: 'FITS_NONSTANDARD_CARD', message: `keyword '${field}' has characters outside A-Z 0-9 - _` });
   }
   if (COMMENTARY.has(upper)) {
     // Commentary keywords never carry a value, even with "= " in bytes 9-10 (FITS 3.0 §4.4.2.4).
-    return { card: { index, keyword: field, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems };
+    return { card: { index, keyword: field, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems, upper };
   }
   if (upper === 'HIERARCH') {
     const rest = raw.slice(8);
@@ -141,19 +156,20 @@ export function parseCard(raw: string, index: number): ParsedCard {
     const name = eq < 0 ? '' : rest.slice(0, eq).trim().split(/ +/).join(' ');
     if (name !== '') {
       const v = parseValueField(rest.slice(eq + 1));
-      if (v.bad) problems.push({ code: 'FITS_BAD_VALUE', message: `HIERARCH ${name}: ${v.bad}` });
+      if (v.bad) problems = withProblem(problems, { code: 'FITS_BAD_VALUE', message: `HIERARCH ${name}: ${v.bad}` });
       const card: Card = { index, keyword: name, kind: v.kind === 'value' ? 'hierarch' : 'undefined', value: v.value, comment: v.comment, raw };
-      return v.stringContent === undefined ? { card, problems } : { card, problems, stringContent: v.stringContent };
+      const key = name.toUpperCase();
+      return v.stringContent === undefined ? { card, problems, upper: key } : { card, problems, upper: key, stringContent: v.stringContent };
     }
-    return { card: { index, keyword: upper, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems };
+    return { card: { index, keyword: upper, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems, upper };
   }
   if (raw.charCodeAt(8) === 0x3d) {
     // Value indicator "= " in bytes 9-10; "=" alone is accepted (common practice).
     const v = parseValueField(raw.slice(raw.charCodeAt(9) === 0x20 ? 10 : 9));
-    if (v.bad) problems.push({ code: 'FITS_BAD_VALUE', message: `${upper}: ${v.bad}` });
+    if (v.bad) problems = withProblem(problems, { code: 'FITS_BAD_VALUE', message: `${upper}: ${v.bad}` });
     const card: Card = { index, keyword: field, kind: v.kind, value: v.value, comment: v.comment, raw };
-    return v.stringContent === undefined ? { card, problems } : { card, problems, stringContent: v.stringContent };
+    return v.stringContent === undefined ? { card, problems, upper } : { card, problems, upper, stringContent: v.stringContent };
   }
   // No value indicator: commentary text (this is how CONTINUE reaches the header reader).
-  return { card: { index, keyword: field, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems };
+  return { card: { index, keyword: field, kind: 'commentary', value: null, comment: raw.slice(8).trimEnd(), raw }, problems, upper };
 }

@@ -1,5 +1,5 @@
 import type { Diagnostic } from '../diagnostics.js';
-import { cardText, parseCard, parseNumberToken, parseValueField } from './card.js';
+import { bytesText, parseCard, parseNumberToken, parseValueField } from './card.js';
 import type { ParsedCard } from './card.js';
 import { CARD_BYTES, paddedLength } from './constants.js';
 import { DiagnosticSink } from './diagnosticSink.js';
@@ -7,22 +7,35 @@ import type { Card, CardValue, Header } from './types.js';
 
 const VALUED = new Set(['value', 'undefined', 'hierarch']);
 
+/** Index a valued card under its upper-case keyword (and `HIERARCH <name>`); false when already there. */
+function indexCard(map: Map<string, Card>, card: Card, key: string): boolean {
+  if (map.has(key)) return false;
+  map.set(key, card);
+  if (card.raw.charCodeAt(0) === 0x48 && card.raw.startsWith('HIERARCH')) {
+    const long = `HIERARCH ${key}`;
+    if (!map.has(long)) map.set(long, card);
+  }
+  return true;
+}
+
 /** Header of one HDU: cards in file order, lookup by keyword (case-insensitive, first occurrence wins). */
 export class FitsHeader implements Header {
   readonly cards: readonly Card[];
-  private readonly byKeyword = new Map<string, Card>();
+  private readonly byKeyword: Map<string, Card> = new Map();
 
-  /** Build from cards already merged (CONTINUE) and numbered; later duplicates are not indexed. */
-  constructor(cards: readonly Card[]) {
+  /**
+   * Build from cards already merged (CONTINUE) and numbered; later duplicates are not indexed.
+   * `index` (upper-case keyword → first valued card) may be passed when already built.
+   */
+  constructor(cards: readonly Card[], index?: Map<string, Card>) {
     this.cards = cards;
+    if (index !== undefined) {
+      this.byKeyword = index;
+      return;
+    }
     for (const card of cards) {
       if (!VALUED.has(card.kind)) continue;
-      const key = card.keyword.toUpperCase();
-      if (!this.byKeyword.has(key)) this.byKeyword.set(key, card);
-      if (card.kind === 'hierarch' || (card.kind === 'undefined' && card.raw.startsWith('HIERARCH'))) {
-        const long = `HIERARCH ${key}`;
-        if (!this.byKeyword.has(long)) this.byKeyword.set(long, card);
-      }
+      indexCard(this.byKeyword, card, card.keyword.toUpperCase());
     }
   }
 
@@ -119,16 +132,20 @@ export function readHeaderCards(
   sink: DiagnosticSink,
 ): FitsHeader {
   const cards: Card[] = [];
-  const seen = new Set<string>();
+  const index = new Map<string, Card>();
   let pending: { card: Card; content: string; comments: string[] } | undefined;
+  const text = bytesText(bytes, offset, offset + cardCount * CARD_BYTES);
+  // One scan of the whole header for bytes outside 0x20-0x7E (FITS 3.0 §3.2); cards check only then.
+  const check = /[^\x20-\x7e]/.test(text);
   for (let n = 0; n < cardCount; n++) {
     const byte = offset + n * CARD_BYTES;
-    const parsed: ParsedCard = parseCard(cardText(bytes, byte), n + 1);
+    const parsed: ParsedCard = parseCard(text.slice(n * CARD_BYTES, (n + 1) * CARD_BYTES), n + 1, check);
     const card = parsed.card;
-    for (const p of parsed.problems) {
+    for (let k = 0; k < parsed.problems.length; k++) {
+      const p = parsed.problems[k]!;
       sink.warn(p.code, `card ${n + 1}: ${p.message}`, { hdu, card: n + 1, keyword: card.keyword, byte });
     }
-    if (pending !== undefined && card.kind === 'commentary' && card.keyword.toUpperCase() === 'CONTINUE') {
+    if (pending !== undefined && card.kind === 'commentary' && card.keyword === 'CONTINUE') {
       const v = parseValueField(card.raw.slice(8));
       if (v.stringContent !== undefined) {
         // Drop the '&' and anything after it, keep what precedes it, append the next part.
@@ -144,9 +161,8 @@ export function readHeaderCards(
       }
     }
     pending = undefined;
-    if (VALUED.has(card.kind)) {
-      const key = card.keyword.toUpperCase();
-      if (seen.has(key)) {
+    if (card.kind === 'value' || card.kind === 'undefined' || card.kind === 'hierarch') {
+      if (!indexCard(index, card, parsed.upper)) {
         sink.warn('FITS_DUPLICATE_KEYWORD', `card ${n + 1}: keyword ${card.keyword} repeats; the first value is used`, {
           hdu,
           card: n + 1,
@@ -154,14 +170,14 @@ export function readHeaderCards(
           byte,
         });
       }
-      seen.add(key);
-      if (parsed.stringContent !== undefined && parsed.stringContent.replace(/ +$/, '').endsWith('&')) {
-        pending = { card, content: parsed.stringContent, comments: card.comment === '' ? [] : [card.comment] };
+      const content = parsed.stringContent;
+      if (content !== undefined && content.replace(/ +$/, '').endsWith('&')) {
+        pending = { card, content, comments: card.comment === '' ? [] : [card.comment] };
       }
     }
     cards.push(card);
   }
-  return new FitsHeader(cards);
+  return new FitsHeader(cards, index);
 }
 
 /** Options for {@link parseHeaderBlocks}. */

@@ -1,7 +1,6 @@
 // File access for FITS in Node: whole-file, header-only and row-range reads. Inputs are opened read-only.
-import { createReadStream } from 'node:fs';
-import { open, readFile } from 'node:fs/promises';
-import type { FileHandle } from 'node:fs/promises';
+import { closeSync, createReadStream, fstatSync, openSync, readSync } from 'node:fs';
+import { readFile } from 'node:fs/promises';
 import { createGunzip, gunzip } from 'node:zlib';
 import { promisify } from 'node:util';
 import { CoreError, FitsFormatError } from '../errors.js';
@@ -73,13 +72,13 @@ export async function readFitsFile(path: string, opts: ParseOptions = {}): Promi
 }
 
 /** Read exactly `length` bytes at `position` (fewer at the end of the file). */
-async function readAt(fh: FileHandle, position: number, length: number, counter: { n: number }): Promise<Uint8Array> {
+function readAt(fd: number, position: number, length: number, counter: { n: number }): Uint8Array {
   const buf = new Uint8Array(length);
   let got = 0;
   while (got < length) {
-    const { bytesRead } = await fh.read(buf, got, length - got, position + got);
-    if (bytesRead === 0) break;
-    got += bytesRead;
+    const n = readSync(fd, buf, got, length - got, position + got);
+    if (n === 0) break;
+    got += n;
   }
   counter.n += got;
   return got === length ? buf : buf.subarray(0, got);
@@ -120,8 +119,8 @@ function checkDataEnd(item: ListedHdu, size: number, sink: DiagnosticSink): bool
 }
 
 /** Walk the headers of an uncompressed file with positioned reads, skipping data by computed sizes. */
-async function walkHeaders(
-  fh: FileHandle,
+function walkHeaders(
+  fd: number,
   size: number,
   sink: DiagnosticSink,
   stopAfter: number | undefined,
@@ -131,7 +130,7 @@ async function walkHeaders(
   const listed: ListedHdu[] = [];
   let offset = 0;
   for (let hdu = 0; offset < size; hdu++) {
-    let bytes = hdu === 0 ? firstBlock : await readAt(fh, offset, Math.min(BLOCK_BYTES, size - offset), counter);
+    let bytes = hdu === 0 ? firstBlock : readAt(fd, offset, Math.min(BLOCK_BYTES, size - offset), counter);
     if (hdu === 0) checkFitsStart(bytes, sink);
     else if (!(bytes.length >= 8 && String.fromCharCode(...bytes.subarray(0, 8)) === 'XTENSION')) {
       reportTrailing(bytes, 0, hdu, sink, offset, size - offset);
@@ -139,7 +138,7 @@ async function walkHeaders(
     }
     // Header blocks are read one at a time until the END card.
     while (findHeaderEnd(bytes, Math.max(0, bytes.length - BLOCK_BYTES)) === undefined && offset + bytes.length < size) {
-      bytes = concat(bytes, await readAt(fh, offset + bytes.length, Math.min(BLOCK_BYTES, size - offset - bytes.length), counter));
+      bytes = concat(bytes, readAt(fd, offset + bytes.length, Math.min(BLOCK_BYTES, size - offset - bytes.length), counter));
     }
     const read = readHduHeader(bytes, 0, hdu, sink, offset);
     if (read === undefined) {
@@ -230,22 +229,27 @@ async function walkGzipHeaders(path: string, sink: DiagnosticSink, stopAfter: nu
   return listed;
 }
 
-async function withHandle<T>(path: string, f: (fh: FileHandle, size: number) => Promise<T>): Promise<T> {
-  let fh: FileHandle | undefined;
+/**
+ * Open `path` read-only and run `f` with the descriptor and size. Header and row reads use
+ * synchronous positioned reads: they are a few kilobytes, and a thread-pool round trip per block
+ * costs more than the read itself (DESIGN P6, header-only inspection of many files).
+ */
+async function withFile<T>(path: string, f: (fd: number, size: number) => Promise<T> | T): Promise<T> {
+  let fd: number | undefined;
   try {
-    fh = await open(path, 'r');
-    const { size } = await fh.stat();
-    return await f(fh, size);
+    fd = openSync(path, 'r');
+    const { size } = fstatSync(fd);
+    return await f(fd, size);
   } catch (e) {
     throw fileError(e, path);
   } finally {
-    await fh?.close().catch(() => undefined);
+    if (fd !== undefined) closeSync(fd);
   }
 }
 
 /** The first block of the file (read once; it also tells gzip from plain FITS). */
-async function firstBlockOf(fh: FileHandle, size: number, counter: { n: number }): Promise<Uint8Array> {
-  return readAt(fh, 0, Math.min(BLOCK_BYTES, size), counter);
+function firstBlockOf(fd: number, size: number, counter: { n: number }): Uint8Array {
+  return readAt(fd, 0, Math.min(BLOCK_BYTES, size), counter);
 }
 
 /**
@@ -264,14 +268,14 @@ async function firstBlockOf(fh: FileHandle, size: number, counter: { n: number }
 export async function readFitsHeaders(path: string, opts: ParseOptions = {}): Promise<HeaderOnlyFile> {
   const sink = new DiagnosticSink(opts.strict === true, path);
   const counter = { n: 0 };
-  const listed = await withHandle(path, async (fh, size) => {
-    const first = await firstBlockOf(fh, size, counter);
+  const listed = await withFile(path, async (fd, size) => {
+    const first = firstBlockOf(fd, size, counter);
     if (isGzipMagic(first)) {
       // The stream reads the file again from its start; count only what it reads.
       counter.n = 0;
       return walkGzipHeaders(path, sink, undefined, counter);
     }
-    return walkHeaders(fh, size, sink, undefined, counter, first);
+    return walkHeaders(fd, size, sink, undefined, counter, first);
   });
   const hdus: Hdu[] = listed.map(({ header, layout }) => ({ header, layout, checksum: NOT_CHECKED }));
   return { hdus, diagnostics: sink.list, bytesRead: counter.n };
@@ -297,13 +301,13 @@ export async function readFitsRows(path: string, range: RowRange, opts: ParseOpt
   const parseOpts: ParseOptions = { ...opts, rows, verifyChecksums: false, file: path };
   if (range.hdu !== undefined) parseOpts.hdu = range.hdu;
   else delete parseOpts.hdu;
-  return withHandle(path, async (fh, size) => {
-    const first = await firstBlockOf(fh, size, counter);
+  return withFile(path, async (fd, size) => {
+    const first = firstBlockOf(fd, size, counter);
     if (isGzipMagic(first)) {
       const bytes = await inflate(await readFile(path, { flag: 'r' }), path);
       return parseFits(bytes, parseOpts);
     }
-    const listed = await walkHeaders(fh, size, sink, range.hdu, counter, first);
+    const listed = walkHeaders(fd, size, sink, range.hdu, counter, first);
     const target = [...decodeTargets(listed, parseOpts, sink)][0]!;
     const item = listed[target]!;
     const layout = item.layout;
@@ -315,7 +319,7 @@ export async function readFitsRows(path: string, range: RowRange, opts: ParseOpt
     if (from + length > size) {
       throw sink.error('FITS_TRUNCATED', `HDU ${target}: rows end at byte ${from + length}, the file at ${size}`, { hdu: target, byte: size });
     }
-    const bytes = await readAt(fh, from, length, counter);
+    const bytes = readAt(fd, from, length, counter);
     const hdus: Hdu[] = listed.map(({ header, layout: l }) => ({ header, layout: l, checksum: NOT_CHECKED }));
     if (length > 0) hdus[target]!.image = decodePixels(bytes, layout, shape);
     return { hdus, diagnostics: sink.list };
