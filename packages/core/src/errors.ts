@@ -40,7 +40,9 @@ export type ErrorCode =
   | 'INPUT_SCALED_DATA'
   | 'INPUT_NO_BIAS_PAIR'
   | 'INPUT_TOO_FEW_FLAT_PAIRS'
-  | 'INPUT_BAD_PROFILE';
+  | 'INPUT_BAD_PROFILE'
+  // A result file (JSON) handed to the report that is not a subgauge result, is of an unknown version or lacks a field.
+  | 'INPUT_BAD_RESULT';
 
 /** Where in the input a problem sits. `hdu` is 0-based, `card` is 1-based within its HDU, `byte` is a file offset. */
 export interface Where {
