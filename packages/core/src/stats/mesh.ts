@@ -5,7 +5,7 @@ import type { SampleOptions } from './input.js';
 import type { MaskAddress } from './input.js';
 import { blankAsNumber, directHistogramLayout, maskAddress } from './input.js';
 import type { PixelCounts } from './sample.js';
-import { emptyTally, gatherValues, scratchOf } from './sample.js';
+import { emptyTally, gatherValues, integerFloatRange, scratchOf } from './sample.js';
 import type { SigmaClipParameters } from './sigmaClip.js';
 import { medianInPlace } from './select.js';
 import { clipWeighted, sortAndCount, weightedMedian } from './weighted.js';
@@ -60,10 +60,16 @@ interface BoxWork {
 function boxWork(view: FrameView, boxPixels: number, opts: SampleOptions): BoxWork {
   const layout = directHistogramLayout(view.data);
   const blank = blankAsNumber(opts.blankValue);
+  let origin = layout?.origin;
+  if (origin === undefined && (view.data instanceof Float32Array || view.data instanceof Float64Array)) {
+    // Float frames holding integer ADU within 65536 codes (and no NaN) take the counting path too.
+    const r = integerFloatRange(view, blank, maskAddress(view, opts.mask));
+    if (r !== undefined && r.nonFinite === 0 && r.hi - r.lo < 65536) origin = r.lo > r.hi ? 0 : r.lo;
+  }
   return {
-    origin: layout?.origin,
-    blank: layout !== undefined && Number.isInteger(blank) ? blank : Number.NaN,
-    fine: new Uint32Array(layout === undefined ? 0 : 65536),
+    origin,
+    blank: origin !== undefined && Number.isInteger(blank) ? blank : Number.NaN,
+    fine: new Uint32Array(origin === undefined ? 0 : 65536),
     coarse: new Uint32Array(256),
     scratch: scratchOf(boxPixels, opts.scratch),
     values: new Float64Array(boxPixels),

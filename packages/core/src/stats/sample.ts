@@ -246,6 +246,112 @@ export function usesHistogram(view: FrameView): boolean {
   );
 }
 
+/**
+ * For float stores: min and max of the valid values if every one is an integer, else undefined (the scan stops
+ * at the first non-integer, so general float data pay almost nothing). Float frames often hold integer ADU.
+ */
+export function integerFloatRange(
+  view: FrameView,
+  blank: number,
+  mask: MaskAddress | undefined,
+): { lo: number; hi: number; nonFinite: number } | undefined {
+  const data = view.data as unknown as Float64Array;
+  const h = view.shape[0] ?? 0;
+  const w = view.shape[1] ?? 0;
+  const sy = view.stride[0] ?? 0;
+  const sx = view.stride[1] ?? 0;
+  let lo = Infinity;
+  let hi = -Infinity;
+  let nonFinite = 0;
+  for (let y = 0; y < h; y++) {
+    let i = view.offset + y * sy;
+    for (let x = 0; x < w; x++) {
+      const v = data[i] as number;
+      i += sx;
+      if (v === blank || (mask !== undefined && mask.mask[i - sx - mask.base] !== 0)) continue;
+      // NaN and infinities fail v - v === 0.
+      if (v - v !== 0) nonFinite++;
+      else if (Math.floor(v) !== v) return undefined;
+      else {
+        if (v < lo) lo = v;
+        if (v > hi) hi = v;
+      }
+    }
+  }
+  return { lo, hi, nonFinite };
+}
+
+/**
+ * Histogram of a float store in one optimistic pass: bins [origin, origin + bins) around the first valid value;
+ * the pass gives up (returns false, tally untouched) at the first non-integer or out-of-range value, so general
+ * float data cost one look at one pixel. Float frames often hold integer ADU.
+ */
+function tryFloatHistogram(
+  view: FrameView,
+  counts: Uint32Array,
+  origin: number,
+  blank: number,
+  mask: MaskAddress | undefined,
+  tally: PixelCounts,
+): boolean {
+  const data = view.data as unknown as Float64Array;
+  const h = view.shape[0] ?? 0;
+  const w = view.shape[1] ?? 0;
+  const sy = view.stride[0] ?? 0;
+  const sx = view.stride[1] ?? 0;
+  const bins = counts.length;
+  let nans = 0;
+  let infs = 0;
+  let blanks = 0;
+  let masked = 0;
+  let n = 0;
+  for (let y = 0; y < h; y++) {
+    let i = view.offset + y * sy;
+    for (let x = 0; x < w; x++) {
+      if (mask !== undefined && mask.mask[i - mask.base] !== 0) masked++;
+      else {
+        const v = data[i] as number;
+        const code = v - origin;
+        if (code >= 0 && code < bins && Math.floor(code) === code) {
+          if (v === blank) blanks++;
+          else {
+            (counts[code] as number)++;
+            n++;
+          }
+        } else if (v !== v) nans++;
+        else if (v === Infinity || v === -Infinity) infs++;
+        else if (v === blank) blanks++;
+        else return false;
+      }
+      i += sx;
+    }
+  }
+  tally.nanCount += nans;
+  tally.infiniteCount += infs;
+  tally.blankCount += blanks;
+  tally.maskedCount += masked;
+  tally.validCount += n;
+  return true;
+}
+
+/** The first valid value of a float view (NaN when none), for centring an optimistic histogram. */
+function firstFinite(view: FrameView, blank: number, mask: MaskAddress | undefined): number {
+  const data = view.data as unknown as Float64Array;
+  const h = view.shape[0] ?? 0;
+  const w = view.shape[1] ?? 0;
+  const sy = view.stride[0] ?? 0;
+  const sx = view.stride[1] ?? 0;
+  for (let y = 0; y < h; y++) {
+    let i = view.offset + y * sy;
+    for (let x = 0; x < w; x++) {
+      const v = data[i] as number;
+      if (v - v === 0 && v !== blank && (mask === undefined || mask.mask[i - mask.base] === 0)) return v;
+      i += sx;
+    }
+  }
+  return Number.NaN;
+}
+
 /** Whether an element of this integer store can equal `v` (else the BLANK test is dropped from the loop). */
 function representable(data: unknown, v: number): boolean {
   if (!Number.isInteger(v)) return false;
@@ -259,8 +365,9 @@ function representable(data: unknown, v: number): boolean {
 }
 
 /**
- * Sample a view: integer data of <= 16 bits (and 32-bit integers spanning <= 2^20 codes) as a histogram,
- * everything else as packed float64 values in the scratch.
+ * Sample a view: integer data of <= 16 bits, 32-bit integers spanning <= 2^20 codes and float data whose
+ * valid values are all integers within 2^19 of the first one as an exact histogram; everything else as packed float64
+ * values in the scratch.
  * @param forceValues always gather values (used to cross-check the two paths)
  */
 export function sampleView(view: FrameView, opts: SampleOptions = {}, forceValues = false): Sample {
@@ -275,6 +382,20 @@ export function sampleView(view: FrameView, opts: SampleOptions = {}, forceValue
       const [lo, hi] = integerRange(view, blank, mask);
       if (lo > hi) layout = { origin: 0, bins: 1 };
       else if (hi - lo + 1 <= MAX_HISTOGRAM_BINS) layout = { origin: lo, bins: hi - lo + 1 };
+    }
+    if (layout === undefined && (view.data instanceof Float32Array || view.data instanceof Float64Array)) {
+      const first = firstFinite(view, blank, mask);
+      if (Number.isInteger(first) && Math.abs(first) < 2 ** 52) {
+        const counts = new Uint32Array(MAX_HISTOGRAM_BINS);
+        const origin = first - MAX_HISTOGRAM_BINS / 2;
+        if (tryFloatHistogram(view, counts, origin, blank, mask, tally)) {
+          let lo = 0;
+          let hi = MAX_HISTOGRAM_BINS - 1;
+          while (lo <= hi && counts[lo] === 0) lo++;
+          while (hi >= lo && counts[hi] === 0) hi--;
+          return { kind: 'histogram', counts, origin, lo, hi, n: tally.validCount, tally };
+        }
+      }
     }
     if (layout !== undefined) {
       const counts = new Uint32Array(layout.bins);

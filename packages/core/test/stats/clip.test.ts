@@ -183,13 +183,16 @@ describe('frameStats', () => {
     expect(f.max).toBe(65535);
     const clip = sigmaClippedStats(u16);
     expect(f.clipped).toEqual(clip);
-    const g = frameStats(viewOf(Float64Array.from(u16), width, height));
+    // Float data holding the same integers take the histogram path too.
+    expect(frameStats(viewOf(Float64Array.from(u16), width, height))).toEqual(f);
+    // Quarter values are not integers: the selection path, with every statistic scaled exactly by 1/4.
+    const g = frameStats(viewOf(Float64Array.from(u16, (v) => v / 4), width, height));
     expect(g.method).toBe('selection');
-    expect(g.median).toBe(f.median);
-    expect(g.mad).toBe(f.mad);
+    expect(g.median).toBe(f.median / 4);
+    expect(g.mad).toBe(f.mad / 4);
     expect(g.clipped?.count).toBe(f.clipped?.count);
-    expect(g.clipped?.median).toBe(f.clipped?.median);
-    close(g.clipped?.mean ?? 0, f.clipped?.mean ?? 1, 1e-12 * 2000);
+    expect(g.clipped?.median).toBe((f.clipped?.median ?? 0) / 4);
+    close(g.clipped?.mean ?? 0, (f.clipped?.mean ?? 1) / 4, 1e-12 * 2000);
   });
 
   for (const [label, store] of [
