@@ -128,3 +128,33 @@ describe('node file access (@subgauge/core/node)', () => {
     expect(readdirSync(join(dir, 'out')).sort()).toEqual(['taken', 'written.fits']);
   });
 });
+
+describe('node file access under damaged input (fast-check)', () => {
+  it('readFitsHeaders / readFitsRows / readFitsFile on damaged plain and gzip files give only CoreErrors (150 cases)', async () => {
+    const { default: fc } = await import('fast-check');
+    const target = join(dir, 'fuzz.fits');
+    await fc.assert(
+      fc.asyncProperty(
+        fc.array(fc.tuple(fc.nat(), fc.integer({ min: 0, max: 255 })), { maxLength: 6 }),
+        fc.nat(),
+        fc.boolean(),
+        async (flips, cut, zipped) => {
+          const bytes = fileBytes.slice(0, 1 + (cut % fileBytes.length));
+          for (const [at, v] of flips) bytes[at % Math.min(bytes.length, 5760)] = v;
+          const out = zipped ? gzipSync(bytes) : bytes;
+          if (zipped && flips.length > 3) out[Math.min(out.length - 1, 20 + (cut % 40))] ^= 0x55;
+          writeFileSync(target, out);
+          for (const call of [() => readFitsHeaders(target), () => readFitsRows(target, { start: 1, count: 2 }), () => readFitsFile(target)]) {
+            try {
+              await call();
+            } catch (e) {
+              if (!(e instanceof CoreError)) throw e;
+              expect(e.where.file).toBe(target);
+            }
+          }
+        },
+      ),
+      { numRuns: 150, seed: 7 },
+    );
+  }, 60_000);
+});

@@ -150,6 +150,15 @@ describe('encodeFits (writer)', () => {
     expect(h.number('OBS SITE ALT')).toBe(2400.5);
   });
 
+  it('encodeFits([{ checksum: false }]) writes no CHECKSUM/DATASUM and pads data with zeros', () => {
+    const bytes = encodeFits([{ pixels: Int16Array.from([1, 2, 3]), width: 3, height: 1, checksum: false }]);
+    const fits = parseFits(bytes);
+    expect(fits.hdus[0]!.header.has('CHECKSUM')).toBe(false);
+    expect(fits.hdus[0]!.checksum).toEqual({ checksum: 'absent', datasum: 'absent' });
+    expect(bytes.subarray(2880 + 6).every((b) => b === 0)).toBe(true);
+    expect(bytes.subarray(0, 2880).every((b) => b >= 0x20 && b <= 0x7e)).toBe(true);
+  });
+
   it('encodeFits(images) refuses shape mismatches, reserved keywords and empty input', () => {
     expect(thrown(() => encodeFits([{ pixels: new Uint16Array(5), width: 2, height: 2 }]))).toMatchObject({ code: 'INPUT_SHAPE_MISMATCH' });
     expect(thrown(() => encodeFits([{ pixels: new Uint16Array(4), width: 2, height: 2, cards: [{ keyword: 'BZERO', value: 0 }] }]))).toMatchObject({
@@ -173,6 +182,10 @@ describe('encodeFits (writer)', () => {
           { keyword: 'EXPTIME', value: 120, real: true, comment: '[s] exposure time' },
           { keyword: 'LONGSTR', value: 'x'.repeat(200), comment: 'long' },
           { keyword: 'HISTORY', value: 'h'.repeat(150) },
+          { keyword: 'HIERARCH OBS SITE ALT', value: 2400.5, comment: 'metres' },
+          { keyword: 'DATE-OBS', value: '2024-03-01T21:05:33.123', comment: 'start of exposure' },
+          { keyword: 'BIGINT', value: 2n ** 62n },
+          { keyword: 'TINY', value: 1e-300 },
         ],
       },
       { pixels: Float32Array.from({ length: 12 }, (_, i) => i / 3), width: 4, height: 3 },
