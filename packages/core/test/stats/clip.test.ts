@@ -1,10 +1,12 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { viewOf } from '../../src/image/index.js';
+import { regionView, viewOf } from '../../src/image/index.js';
 import {
   backgroundMode,
   biweight,
   biweightLocation,
   biweightScale,
+  dataFacts,
   frameStats,
   medianAbsoluteDeviation,
   moments,
@@ -214,5 +216,46 @@ describe('frameStats', () => {
     expect(f.clipped).toBeUndefined();
     expect(f.nanCount).toBe(Math.ceil((width * height) / 23));
     expect(frameStats([]).validCount).toBe(0);
+  });
+});
+
+describe('view-taking statistics on every view shape', () => {
+  const width = 33;
+  const height = 27;
+  const rng = new XorShift32(31);
+  const i16 = new Int16Array(width * height);
+  for (let i = 0; i < i16.length; i++) i16[i] = Math.round(-50 + 9 * rng.normal()) + (rng.below(40) === 0 ? 400 : 0);
+  const f32 = Float32Array.from(i16, (v, i) => (i % 29 === 0 ? Number.NaN : v / 3));
+  for (const [label, store] of [
+    ['int16', i16],
+    ['float32', f32],
+  ] as const) {
+    for (const c of viewCases(store, width, height)) {
+      it(`sigmaClippedStats, biweight, backgroundMode and dataFacts on a ${label} ${c.name} equal those of a contiguous copy`, () => {
+        for (const scale of ['std', 'mad-sigma'] as const) {
+          expect(sigmaClippedStats(c.view, { scale })).toEqual(sigmaClippedStats(c.copy, { scale }));
+        }
+        expect(biweight(c.view)).toEqual(biweight(c.copy));
+        expect(backgroundMode(c.view)).toEqual(backgroundMode(c.copy));
+        expect(dataFacts(c.view)).toEqual(dataFacts(c.copy));
+        expect(sigmaClippedStats(c.view).count).toBeGreaterThan(0);
+      });
+    }
+  }
+
+  it('frameStats(regionView(regionView(v, ...), ...)) equals frameStats of the combined region (property)', () => {
+    const v = viewOf(i16, width, height);
+    fc.assert(
+      fc.property(fc.nat(width - 2), fc.nat(height - 2), fc.nat(), fc.nat(), (x1, y1, a, b) => {
+        const w1 = 2 + (a % (width - x1 - 1));
+        const h1 = 2 + (b % (height - y1 - 1));
+        const outer = regionView(v, x1, y1, w1, h1);
+        const x2 = a % w1;
+        const y2 = b % h1;
+        const inner = regionView(outer, x2, y2, w1 - x2, h1 - y2);
+        const combined = regionView(v, x1 + x2, y1 + y2, w1 - x2, h1 - y2);
+        expect(frameStats(inner)).toEqual(frameStats(combined));
+      }),
+    );
   });
 });
