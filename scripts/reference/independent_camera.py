@@ -40,7 +40,8 @@ CAMERAS = {
 }
 
 # Flat levels as fractions of the effective full well at the centre of the brightest channel.
-LEVELS = [0.03, 0.08, 0.15, 0.25, 0.35, 0.45, 0.55, 0.65, 0.75, 0.83, 0.9, 0.94, 0.97, 0.99, 1.01, 1.04, 1.1]
+LEVELS = [0.03, 0.08, 0.12, 0.16, 0.2, 0.25, 0.3, 0.35, 0.4, 0.45, 0.5, 0.55, 0.6, 0.65, 0.75, 0.83, 0.9, 0.94, 0.97,
+          0.99, 1.01, 1.04, 1.1]
 DARK_EXPOSURES = [60.0, 180.0, 300.0]
 BIAS_FRAMES = 4
 COSMICS_PER_FRAME = 5

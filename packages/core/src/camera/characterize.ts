@@ -215,15 +215,10 @@ function analyzePlane(
     diag('CAMERA_QUANTIZATION_DOMINATES', 'warning',
       `bias read noise ${readNoiseMeasuredAdu.toFixed(3)} ADU is below half the quantization step ${step}; the Δ²/12 correction dominates`);
   }
-  let minimumCodeFraction = 0;
-  let minimumCodeAdu = Infinity;
-  for (const pr of p.biasPairs) {
-    for (const i of [pr.a, pr.b]) {
-      const f = frameFacts(view(i));
-      minimumCodeAdu = Math.min(minimumCodeAdu, f.min);
-      minimumCodeFraction = Math.max(minimumCodeFraction, f.countAtMin / f.pixelCount);
-    }
-  }
+  // fraction of pixels at the lowest code found in any bias frame (a pile-up there means clipping, REFERENCE F.3)
+  const biasFacts = p.biasPairs.flatMap((pr) => [pr.a, pr.b]).map((i) => frameFacts(view(i)));
+  const minimumCodeAdu = Math.min(...biasFacts.map((f) => f.min));
+  const minimumCodeFraction = Math.max(...biasFacts.map((f) => (f.min === minimumCodeAdu ? f.countAtMin / f.pixelCount : 0)));
   if (minimumCodeFraction > 1e-3) {
     diag('CAMERA_BIAS_CLIPPED', 'warning',
       `${(minimumCodeFraction * 100).toFixed(2)} % of bias pixels sit at the minimum code ${minimumCodeAdu}: the offset may be too low (REFERENCE F.3)`);
