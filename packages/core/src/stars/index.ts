@@ -27,3 +27,4 @@ export {
 export type { MomentShape, ImageMoments } from './profiles.js';
 export { detectStars, defaultSaturationAdu } from './detect.js';
 export { summarizeStars } from './summary.js';
+export { detectTrails } from './trails.js';

@@ -225,7 +225,7 @@ function adaptiveMoments(ctx: MeasureContext, x0: number, y0: number, wxx0: numb
   let wyy = wyy0;
   let wxy = wxy0;
   const sizeLimit = Math.max(400, 25 * (wxx0 + wyy0));
-  for (let it = 0; it < 25; it++) {
+  for (let it = 0; it < 15; it++) {
     const det = wxx * wyy - wxy * wxy;
     if (!(det > 0) || !(wxx > 0) || !(wyy > 0)) return null;
     const ixx = wyy / det;
