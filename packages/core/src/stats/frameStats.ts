@@ -7,7 +7,7 @@ import { MAD_SIGMA_SCALE } from './robust.js';
 import type { PixelCounts } from './sample.js';
 import { sampleView } from './sample.js';
 import type { ClippedStats, SigmaClipParameters } from './sigmaClip.js';
-import { clipSample } from './sigmaClip.js';
+import { clipSample, clipValuesInPlace } from './sigmaClip.js';
 import { medianInPlace } from './select.js';
 
 export interface FrameStatsOptions extends SampleOptions {
@@ -81,7 +81,7 @@ export function frameStats(view: FrameView | ArrayLike<number>, opts: FrameStats
     ss += d * d;
   }
   const std = Math.sqrt(Math.max(0, ss - (sd * sd) / n) / n);
-  const clipped = clipParams === undefined ? undefined : clipSample(s, clipParams);
+  const clipped = clipParams === undefined ? undefined : clipValuesInPlace(a, n, clipParams, { median, std });
   // Clipping left a[0..n) a permutation of the valid values, so the MAD can still use all of them.
   for (let i = 0; i < n; i++) a[i] = Math.abs((a[i] as number) - median);
   const mad = medianInPlace(a, n);

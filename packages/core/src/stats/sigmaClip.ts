@@ -139,7 +139,12 @@ function meanAndSumSquares(a: Float64Array, n: number): [number, number] {
  * Clip packed values a[0..n) in place. Kept values end up in a[0..count) and rejected ones after them, so the
  * buffer stays a permutation of the input (frameStats computes the MAD from it afterwards).
  */
-export function clipValuesInPlace(a: Float64Array, n0: number, params: SigmaClipParameters): ClippedStats {
+export function clipValuesInPlace(
+  a: Float64Array,
+  n0: number,
+  params: SigmaClipParameters,
+  known?: { median: number; std: number },
+): ClippedStats {
   const r = resolve(params);
   if (n0 === 0) return { ...EMPTY, iterations: 0 };
   let n = n0;
@@ -150,9 +155,12 @@ export function clipValuesInPlace(a: Float64Array, n0: number, params: SigmaClip
   let deviations: Float64Array | undefined;
   while (changed !== 0 && iterations < r.maxIterations) {
     iterations++;
-    const center = medianInPlace(a, n);
+    // The caller may already hold the median and std (ddof 0) of all n0 values: the first iteration reuses them.
+    const reuse = known !== undefined && n === n0;
+    const center = reuse ? known.median : medianInPlace(a, n);
     let spread: number;
-    if (r.madScale) {
+    if (reuse && !r.madScale) spread = known.std;
+    else if (r.madScale) {
       if (deviations === undefined) deviations = new Float64Array(n);
       for (let i = 0; i < n; i++) deviations[i] = Math.abs((a[i] as number) - center);
       spread = medianInPlace(deviations, n) * MAD_SIGMA_SCALE;
