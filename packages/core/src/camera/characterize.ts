@@ -194,7 +194,9 @@ function analyzePlane(
     p.diagnostics.push({ code, severity, message: label ? `${label}: ${message}` : message, where: where(file) });
   const file = (i: number) => p.frames[i]!.file;
   const view = (i: number) => select(p.views.get(i)!);
-  const pairOpts = { clipSigma: p.clipSigma };
+  // one scratch buffer for every difference median of this plane (no per-pair allocation)
+  const first = view(p.flatPairs[0]!.a);
+  const pairOpts = { clipSigma: p.clipSigma, scratch: new Float32Array(first.width * first.height) };
   const measurePair = (pair: FramePair) => {
     const a = view(pair.a), b = view(pair.b);
     return { full: pairStatistics(a, b, pairOpts), tiles: pairStatisticsTiles(a, b, p.tiles.x, p.tiles.y, pairOpts) };

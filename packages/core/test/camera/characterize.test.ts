@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { characterizeCamera, screenCameraFrames } from '../../src/camera/characterize.js';
+import { characterizeCamera, measureBiasFrame, screenCameraFrames, screenFlatFrame } from '../../src/camera/characterize.js';
 import { cameraProfileFromResult, parseCameraProfile } from '../../src/camera/profile.js';
 import { SMALL_CAMERA, synthFrames, synthSet } from './synth.js';
 import { headerFrom } from './helpers.js';
@@ -135,5 +135,38 @@ describe('camera profile', () => {
       expect(() => parseCameraProfile(doc)).toThrowError(expect.objectContaining({ code: 'INPUT_BAD_PROFILE', where: { keyword: field } }));
     }
     expect(() => parseCameraProfile(null)).toThrowError(expect.objectContaining({ code: 'INPUT_BAD_PROFILE' }));
+  });
+});
+
+describe('characterizeCamera details', () => {
+  it('characterizeCamera(flats with matching flat-darks) subtracts the flat-dark pair of the same exposure', () => {
+    const cam = { ...SMALL_CAMERA, darkElectronsPerSecond: 20 };
+    const specs = [
+      { kind: 'Bias Frame', electrons: 0, exposureSeconds: 0 }, { kind: 'Bias Frame', electrons: 0, exposureSeconds: 0 },
+      ...LEVELS.flatMap((l) => [1, 2].map(() => ({ kind: 'Flat Field', electrons: l, exposureSeconds: 10 + l / 1000 }))),
+      ...LEVELS.flatMap((l) => [1, 2].map(() => ({ kind: 'Dark Flat', electrons: 0, exposureSeconds: 10 + l / 1000 }))),
+    ];
+    const r = characterizeCamera(synthFrames(cam, specs), { tiles: { x: 2, y: 2 } });
+    expect(r.curve.every((c) => c.reference === 'flat-dark')).toBe(true);
+    // the dark signal (20 e-/s x 10-40 s) is removed: signal ≈ level / g
+    for (const c of r.curve) expect(Math.abs(c.signalAdu - (c.exposureSeconds! - 10) * 1000 / 2) / c.signalAdu).toBeLessThan(0.02);
+    expect(Math.abs(r.gainElectronsPerAdu - 2) / 2).toBeLessThan(0.05);
+  });
+  it('measureBiasFrame(frame with row offsets) reports row noise and no column noise', () => {
+    const w = 256, h = 256;
+    const [b] = synthFrames({ ...SMALL_CAMERA, width: w, height: h }, [{ kind: 'Bias Frame', electrons: 0, exposureSeconds: 0 }]);
+    const px = b!.image.pixels as Uint16Array;
+    for (let y = 0; y < h; y++) for (let x = 0; x < w; x++) px[y * w + x] = px[y * w + x]! + (y % 2 === 0 ? 3 : -3);
+    const m = measureBiasFrame(b!);
+    expect(Math.abs(m.rowNoiseAdu - 3) / 3).toBeLessThan(0.05);
+    expect(m.columnNoiseAdu).toBeLessThan(0.3);
+    expect(m.quantizationStepAdu).toBe(1);
+    expect(Math.abs(m.offsetAdu - 200)).toBeLessThanOrEqual(1);
+  });
+  it('screenFlatFrame(frame, {adcMaxAdu}) counts pixels at or above the given maximum', () => {
+    const [f] = synthFrames({ ...SMALL_CAMERA, adcMaxAdu: 3000 }, [{ kind: 'Flat Field', electrons: 10000, exposureSeconds: 1 }]);
+    expect(screenFlatFrame(f!, { adcMaxAdu: 3000 })).toMatchObject({ saturated: true, adcMaxAdu: 3000 });
+    expect(screenFlatFrame(f!, { adcMaxAdu: 3000 }).fractionAtMaximum).toBeGreaterThan(0.99);
+    expect(screenFlatFrame(f!, { adcMaxAdu: 60000 })).toMatchObject({ saturated: false, fractionAtMaximum: 0 });
   });
 });
