@@ -6,6 +6,7 @@ import { simulateCommand } from './commands/simulate.js';
 import { demoCommand } from './commands/demo.js';
 import { cameraCommand } from './commands/camera.js';
 import { skyCommand } from './commands/sky.js';
+import { auditCommand } from './commands/audit.js';
 
 /** A command body: does its work and returns the exit code. */
 export type Run = () => Promise<number>;
@@ -20,7 +21,7 @@ export function buildProgram(io: CliIo, setRun: (run: Run) => void): Command {
     .showHelpAfterError('(run with --help for usage)')
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     .exitOverride();
-  for (const make of [inspectCommand, cameraCommand, skyCommand, simulateCommand, demoCommand]) {
+  for (const make of [inspectCommand, cameraCommand, skyCommand, auditCommand, simulateCommand, demoCommand]) {
     program.addCommand(
       make(io, setRun)
         .exitOverride()

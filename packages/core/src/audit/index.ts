@@ -39,3 +39,5 @@ export { frameWeights, kishEffectiveCount, stackEstimate, forecastStack } from '
 export type { AuditInput, AuditFrameRecord, AuditCounts, AuditResult } from './session.js';
 export { auditSession, verdictOf, isUnreadableFrame } from './session.js';
 export { frameObservationValues } from './observation.js';
+export type { LightFrameOptions, LightFrameMeasurement } from './frameMetrics.js';
+export { measureLightFrame, plateScaleArcsecPerPixel } from './frameMetrics.js';

@@ -1,0 +1,117 @@
+import { readFileSync, writeFileSync, copyFileSync, mkdirSync } from 'node:fs';
+import path from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli, tempDir } from '../helpers/cli.js';
+
+interface FrameTruth { file: string; kind: string; defects: { kind: string }[]; expectedReasons: string[] }
+
+// Truth: the project's simulator injects each defect on its own frame and lists the reason codes an audit should
+// give (truth.json `expectedReasons`). Several seeds; clean frames must be kept (>= 95 % over the runs).
+describe.each([21, 22])('subgauge audit on a simulated night (seed %i)', (seed) => {
+  const t = tempDir();
+  const session = path.join(t.dir, 'night');
+  let truth: { frames: FrameTruth[] };
+  beforeAll(async () => {
+    expect((await runCli(['simulate', session, '--seed', String(seed), '--width', '384', '--height', '288', '--quiet'])).code).toBe(0);
+    truth = JSON.parse(readFileSync(path.join(session, 'truth.json'), 'utf8'));
+  }, 120_000);
+  afterAll(() => t.cleanup());
+
+  it('audit --json catches every injected defect with its reason code and keeps the clean frames', async () => {
+    const r = await runCli(['audit', session, '--json', '--jobs', '1']);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.schema).toBe('subgauge.audit/1');
+    const lights = truth.frames.filter((f) => f.kind === 'light');
+    expect(doc.frames).toHaveLength(lights.length);
+    let clean = 0;
+    let cleanKept = 0;
+    for (const f of lights) {
+      const rec = doc.frames.find((x: { file: string }) => x.file.endsWith(f.file));
+      expect(rec, f.file).toBeDefined();
+      if (f.defects.length === 0) {
+        clean++;
+        if (rec.verdict === 'keep') cleanKept++;
+      } else {
+        expect(rec.verdict, `${f.file} ${f.defects.map((d) => d.kind)}`).not.toBe('keep');
+        for (const reason of f.expectedReasons) expect(rec.reasons, `${f.file}: ${rec.reasons}`).toContain(reason);
+      }
+    }
+    expect(cleanKept / clean).toBeGreaterThanOrEqual(0.95);
+    expect(doc.forecast[0].kept.frameCount).toBe(doc.counts.keep);
+  });
+});
+
+describe('subgauge audit outputs and failures', () => {
+  const t = tempDir();
+  const session = path.join(t.dir, 'night');
+  beforeAll(async () => {
+    expect((await runCli(['simulate', session, '--seed', '4', '--width', '256', '--height', '192', '--quiet'])).code).toBe(0);
+  }, 120_000);
+  afterAll(() => t.cleanup());
+
+  it('audit prints rejects and reviews first, then the table, calibration and forecast', async () => {
+    const r = await runCli(['audit', path.join(session, 'light'), '--jobs', '1']);
+    expect(r.code).toBe(0);
+    const iReject = r.stdout.indexOf('\nReject');
+    const iFrames = r.stdout.indexOf('\nFrames');
+    expect(iReject).toBeGreaterThan(0);
+    expect(iFrames).toBeGreaterThan(iReject);
+    expect(r.stdout).toContain('Stack forecast');
+    expect(r.stdout).toMatch(/effective frames \(Kish\)/);
+  });
+
+  it('audit --fail-on reject exits 1 when a frame is rejected', async () => {
+    const r = await runCli(['audit', path.join(session, 'light'), '--fail-on', 'reject', '--jobs', '1', '--quiet']);
+    expect(r.code).toBe(1);
+  });
+
+  it('audit reports an unreadable file with `unreadable`, goes on, and exits 1', async () => {
+    const dir = path.join(t.dir, 'mixed');
+    mkdirSync(dir, { recursive: true });
+    for (const f of ['light_001.fits', 'light_002.fits', 'light_004.fits']) copyFileSync(path.join(session, 'light', f), path.join(dir, f));
+    writeFileSync(path.join(dir, 'broken.fits'), 'SIMPLE  =                    T'.padEnd(2880, ' '));
+    const r = await runCli(['audit', dir, '--json', '--jobs', '1']);
+    expect(r.code).toBe(1);
+    const doc = JSON.parse(r.stdout);
+    const broken = doc.frames.find((f: { file: string }) => f.file.endsWith('broken.fits'));
+    expect(broken).toMatchObject({ verdict: 'reject', reasons: ['unreadable'] });
+    expect(broken.error.code).toMatch(/^FITS_/);
+    expect(doc.frames.filter((f: { verdict: string }) => f.verdict !== 'reject')).toHaveLength(3);
+  });
+
+  it('audit --limits with a bad field names the field', async () => {
+    const limits = path.join(t.dir, 'limits.json');
+    writeFileSync(limits, JSON.stringify({ softFocus: { ratioLimit: -2 } }));
+    const r = await runCli(['audit', path.join(session, 'light'), '--limits', limits, '--jobs', '1']);
+    expect(r.code).not.toBe(0);
+    expect(r.stderr).toMatch(/softFocus/);
+  });
+
+  it('audit --csv neutralises cells that would run as spreadsheet formulas (OWASP CSV injection guidance)', async () => {
+    const csv = path.join(t.dir, 'audit.csv');
+    const r = await runCli(['audit', path.join(session, 'light'), '--csv', csv, '--jobs', '1', '--quiet']);
+    expect(r.code).toBe(0);
+    const text = readFileSync(csv, 'utf8');
+    expect(text.split('\r\n')[0]).toMatch(/^file,verdict,reasons/);
+    for (const line of text.split('\r\n').slice(1)) for (const cell of line.split(',')) expect(cell).not.toMatch(/^[=+@]/);
+  });
+});
+
+describe('subgauge audit --jobs 2 (worker threads, built CLI)', () => {
+  const t = tempDir();
+  const session = path.join(t.dir, 'night');
+  afterAll(() => t.cleanup());
+  it('gives the same result in the same order as --jobs 1', async () => {
+    const { spawnSync } = await import('node:child_process');
+    const { existsSync } = await import('node:fs');
+    const bin = path.resolve('packages/cli/dist/bin.js');
+    expect(existsSync(bin), 'the CLI must be built first (pnpm test builds it)').toBe(true);
+    expect((await runCli(['simulate', session, '--seed', '9', '--width', '256', '--height', '192', '--quiet'])).code).toBe(0);
+    const run = (jobs: number) => spawnSync(process.execPath, [bin, 'audit', session, '--json', '--jobs', String(jobs)], { encoding: 'utf8', maxBuffer: 1 << 26 });
+    const one = run(1);
+    const two = run(2);
+    expect(two.status, two.stderr).toBe(0);
+    expect(JSON.parse(two.stdout)).toEqual(JSON.parse(one.stdout));
+  }, 120_000);
+});
