@@ -860,7 +860,7 @@ export function characterizeCamera(frames: readonly CameraFrame[], options: Came
       combination: 'gain: inverse-variance weighted mean of the channel gains (error scaled by √(χ²/dof) when > 1); full well: ' +
         'the smallest channel full well that was reached; PRNU: mean of the channels; linearity: the worst channel; read noise, ' +
         'offset, dark current, DSNU and hot pixels: all pixels with the combined gain',
-      gainReducedChiSquare: red,
+      gainReducedChiSquare: Number.isFinite(red) ? red : null,
     };
   }
   const full = analyzePlane(prepared, (v) => v, '', gainOverride);

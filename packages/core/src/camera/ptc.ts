@@ -39,7 +39,8 @@ export interface PtcWindowOptions {
 
 export interface PtcWindow {
   minimumSignalAdu: number;
-  maximumSignalAdu: number;
+  /** null: no upper limit. */
+  maximumSignalAdu: number | null;
   lowerFraction: number | null;
   upperFraction: number | null;
   /** 'fractions' of the saturation signal, 'explicit' limits, 'no-saturation' (fractions of the brightest point,
@@ -64,9 +65,10 @@ export interface PtcFitResult {
   gainElectronsPerAdu: number;
   /** From the fit covariance, scaled by √(χ²/dof) when that exceeds 1. */
   gainUncertaintyElectronsPerAdu: number;
-  /** g·√(a − Δ²/12): the read noise implied by the intercept (a cross-check; NaN when a ≤ Δ²/12). */
-  readNoiseFromInterceptElectrons: number;
-  reducedChiSquare: number;
+  /** g·√(a − Δ²/12): the read noise implied by the intercept (a cross-check; null when a ≤ Δ²/12). */
+  readNoiseFromInterceptElectrons: number | null;
+  /** χ²/dof of the weighted fit; null with 2 points. */
+  reducedChiSquare: number | null;
   pointsUsed: number;
   window: PtcWindow;
   peak: VariancePeak;
@@ -130,7 +132,7 @@ export function fitPhotonTransfer(
   let window: PtcWindow;
   if (options.minimumSignalAdu !== undefined || options.maximumSignalAdu !== undefined) {
     window = {
-      minimumSignalAdu: options.minimumSignalAdu ?? 0, maximumSignalAdu: options.maximumSignalAdu ?? Infinity,
+      minimumSignalAdu: options.minimumSignalAdu ?? 0, maximumSignalAdu: options.maximumSignalAdu ?? null,
       lowerFraction: null, upperFraction: null, basis: 'explicit',
     };
   } else if (peak.rolledOff) {
@@ -139,7 +141,7 @@ export function fitPhotonTransfer(
       lowerFraction, upperFraction, basis: 'fractions',
     };
   } else {
-    window = { minimumSignalAdu: lowerFraction * maxSignal, maximumSignalAdu: Infinity, lowerFraction, upperFraction: null, basis: 'no-saturation' };
+    window = { minimumSignalAdu: lowerFraction * maxSignal, maximumSignalAdu: null, lowerFraction, upperFraction: null, basis: 'no-saturation' };
   }
   const baseExclusion = (p: PtcInputPoint): PtcExclusion | null => {
     if (p.saturated) return 'saturated';
@@ -151,12 +153,12 @@ export function fitPhotonTransfer(
     const base = baseExclusion(p);
     if (base) return base;
     if (p.signalAdu < window.minimumSignalAdu) return 'below-window';
-    if (p.signalAdu > window.maximumSignalAdu) return 'above-window';
+    if (window.maximumSignalAdu !== null && p.signalAdu > window.maximumSignalAdu) return 'above-window';
     return null;
   });
   let use = exclusions.flatMap((e, i) => (e === null ? [i] : []));
   if (use.length < 3 && window.basis !== 'explicit') {
-    window = { ...window, minimumSignalAdu: 0, maximumSignalAdu: peak.rolledOff ? peak.signalAdu : Infinity, basis: 'relaxed' };
+    window = { ...window, minimumSignalAdu: 0, maximumSignalAdu: peak.rolledOff ? peak.signalAdu : null, basis: 'relaxed' };
     for (let i = 0; i < points.length; i++) {
       const e = exclusions[i];
       if (e === 'below-window' || e === 'above-window') exclusions[i] = null;
@@ -175,8 +177,9 @@ export function fitPhotonTransfer(
     }
   }
   if (!(fit.slope > 0)) throw new FitError('FIT_DEGENERATE', `photon-transfer slope is ${fit.slope}, not positive`);
-  const reducedChiSquare = fit.degreesOfFreedom > 0 ? fit.chiSquare / fit.degreesOfFreedom : NaN;
-  const scale = reducedChiSquare > 1 ? Math.sqrt(reducedChiSquare) : 1;
+  const reducedChiSquare = fit.degreesOfFreedom > 0 ? fit.chiSquare / fit.degreesOfFreedom : null;
+  const scale = reducedChiSquare !== null && reducedChiSquare > 1 ? Math.sqrt(reducedChiSquare) : 1;
+  const interceptReadNoise = readNoiseFromIntercept(fit.intercept, 1 / fit.slope, quantizationStepAdu);
   const slopeUncertainty = Math.sqrt(fit.covariance.slopeVariance) * scale;
   const gain = 1 / fit.slope;
   return {
@@ -186,7 +189,7 @@ export function fitPhotonTransfer(
     interceptUncertaintyAdu2: Math.sqrt(fit.covariance.interceptVariance) * scale,
     gainElectronsPerAdu: gain,
     gainUncertaintyElectronsPerAdu: slopeUncertainty / (fit.slope * fit.slope),
-    readNoiseFromInterceptElectrons: readNoiseFromIntercept(fit.intercept, gain, quantizationStepAdu),
+    readNoiseFromInterceptElectrons: Number.isFinite(interceptReadNoise) ? interceptReadNoise : null,
     reducedChiSquare,
     pointsUsed: use.length,
     window,

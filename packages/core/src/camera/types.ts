@@ -87,8 +87,8 @@ export interface PtcFitSummary {
   interceptAdu2: number;
   interceptUncertaintyAdu2: number;
   /** g·√(a − Δ²/12): read noise implied by the intercept (cross-check of the bias-pair value). */
-  readNoiseFromInterceptElectrons: number;
-  reducedChiSquare: number;
+  readNoiseFromInterceptElectrons: number | null;
+  reducedChiSquare: number | null;
   pointsUsed: number;
   window: PtcWindow;
   /** Weights (N−1)/(2ŷ²) = 1/Var(y), REFERENCE B.5/B.11. */
@@ -292,7 +292,7 @@ export interface CameraResult extends CameraMeasurement {
   settings: CameraSettings;
   region: PixelRegion;
   /** CFA pattern as stored, and how the top-level values were combined from the channels. */
-  cfa: { pattern: string; combination: string; gainReducedChiSquare: number } | null;
+  cfa: { pattern: string; combination: string; gainReducedChiSquare: number | null } | null;
   channels: Record<CfaChannelName, ChannelMeasurement> | null;
   frames: { used: CameraFrameUse[]; leftOut: LeftOutFrame[] };
   diagnostics: Diagnostic[];

@@ -10,7 +10,7 @@ describe('fitPhotonTransfer', () => {
     expect(Math.abs(fit.slopeAduPerElectron - 0.5)).toBeLessThanOrEqual(1e-9);
     expect(Math.abs(fit.gainElectronsPerAdu - 2.0)).toBeLessThanOrEqual(1e-9);
     expect(Math.abs(fit.interceptAdu2 - 25.0833333333)).toBeLessThanOrEqual(1e-9);
-    expect(Math.abs(fit.readNoiseFromInterceptElectrons - 10.0)).toBeLessThanOrEqual(1e-9);
+    expect(Math.abs(fit.readNoiseFromInterceptElectrons! - 10.0)).toBeLessThanOrEqual(1e-9);
     expect(fit.pointsUsed).toBe(3);
     expect(fit.window.basis).toBe('no-saturation');
   });
