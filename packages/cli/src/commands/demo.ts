@@ -6,7 +6,7 @@ import { cameraProfileFromResult, SESSION_PRESETS, type SessionTruth } from '@su
 import { writeFileAtomic } from '@subgauge/core/node';
 import { type CliIo, EXIT_OK, EXIT_SOME_FAILED, palette } from '../context.js';
 import type { Run } from '../main.js';
-import { parseNonNegativeInt } from '../options.js';
+import { parseNonNegativeInt, parsePositiveInt } from '../options.js';
 import { toJson } from '../render/json.js';
 import { Progress } from '../render/progress.js';
 import { fmtSig, renderTable } from '../render/table.js';
@@ -37,6 +37,7 @@ export function demoCommand(io: CliIo, setRun: (run: Run) => void): Command {
     .addOption(new Option('--preset <name>', 'camera and session preset').choices(presets).default(presets[0]))
     .addOption(new Option('--seed <n>', 'random seed').argParser(parseNonNegativeInt).default(1))
     .option('--dir <folder>', 'write the session here instead of a new temporary folder')
+    .addOption(new Option('--jobs <n>', 'worker threads for the audit (default: number of cores)').argParser(parsePositiveInt))
     .option('--no-progress', 'no progress bar on stderr');
   cmd.action((opts: DemoOptions) => {
     setRun(async () => {
