@@ -5,7 +5,7 @@ export const HOST_LITTLE_ENDIAN = new Uint8Array(new Uint16Array([1]).buffer)[0]
 
 /** Copy `length` bytes into a fresh buffer whose length is a multiple of 8, so 32-bit views fit. */
 function copyAligned(src: Uint8Array, length: number): ArrayBuffer {
-  const buffer = new ArrayBuffer(Math.ceil(length / 8) * 8);
+  const buffer = alignedBuffer(length);
   new Uint8Array(buffer, 0, length).set(src.subarray(0, length));
   return buffer;
 }
@@ -51,11 +51,9 @@ function swap64(words: Uint32Array, highMask: number): void {
   }
 }
 
-/** Raw stored values in host order: one copy of the bytes, swapped in place (no DataView per pixel). */
-function rawArray(src: Uint8Array, bitpix: number, count: number, unsignedMask: boolean): Pixels {
-  const bytesPer = Math.abs(bitpix) / 8;
-  const buffer = copyAligned(src, count * bytesPer);
-  const words = new Uint32Array(buffer);
+/** Raw stored values in host order, swapped in place in `buffer` (no DataView per pixel). */
+function rawArray(buffer: ArrayBuffer, bitpix: number, count: number, unsignedMask: boolean): Pixels {
+  const words = new Uint32Array(buffer, 0, Math.floor(buffer.byteLength / 8) * 2);
   switch (bitpix) {
     case 8:
       if (unsignedMask) {
@@ -190,12 +188,26 @@ export interface DecodeShape {
  * least width x height x planes x |BITPIX|/8 bytes. One copy, swapped in place.
  */
 export function decodePixels(src: Uint8Array, layout: HduLayout, shape: DecodeShape): ImageData {
+  const count = shape.width * shape.height * shape.planes;
+  return decodeBuffer(copyAligned(src, count * (Math.abs(layout.bitpix) / 8)), layout, shape);
+}
+
+/** A fresh buffer for `length` bytes of raw data: zero-filled, its length a multiple of 8. */
+export function alignedBuffer(length: number): ArrayBuffer {
+  return new ArrayBuffer(Math.ceil(length / 8) * 8);
+}
+
+/**
+ * Decode image pixels already copied into `buffer` (from {@link alignedBuffer}; raw big-endian data
+ * from byte 0). The buffer is swapped in place and becomes the pixel store: no further copy.
+ */
+export function decodeBuffer(buffer: ArrayBuffer, layout: HduLayout, shape: DecodeShape): ImageData {
   const type = layout.elementType ?? 'float64';
   const count = shape.width * shape.height * shape.planes;
   const bitpix = layout.bitpix;
   const unsigned = type === 'int8' || type === 'uint16' || type === 'uint32' || type === 'uint64';
   const scaledInts = bitpix > 0 && (type === 'float32' || type === 'float64');
-  const raw = rawArray(src, bitpix, count, unsigned);
+  const raw = rawArray(buffer, bitpix, count, unsigned);
   let pixels: Pixels = raw;
   let blankCount = 0;
   let blankValue: number | bigint | undefined;

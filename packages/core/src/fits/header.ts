@@ -130,6 +130,8 @@ export function readHeaderCards(
   cardCount: number,
   hdu: number,
   sink: DiagnosticSink,
+  /** File offset of bytes[0] (for partial reads), so diagnostics carry file positions. */
+  base = 0,
 ): FitsHeader {
   const cards: Card[] = [];
   const index = new Map<string, Card>();
@@ -138,7 +140,7 @@ export function readHeaderCards(
   // One scan of the whole header for bytes outside 0x20-0x7E (FITS 3.0 §3.2); cards check only then.
   const check = /[^\x20-\x7e]/.test(text);
   for (let n = 0; n < cardCount; n++) {
-    const byte = offset + n * CARD_BYTES;
+    const byte = base + offset + n * CARD_BYTES;
     const parsed: ParsedCard = parseCard(text.slice(n * CARD_BYTES, (n + 1) * CARD_BYTES), n + 1, check);
     const card = parsed.card;
     for (let k = 0; k < parsed.problems.length; k++) {

@@ -16,7 +16,7 @@ export interface ListedHdu {
   truncated: boolean;
 }
 
-const NOT_CHECKED: ChecksumResult = { checksum: 'not-checked', datasum: 'not-checked' };
+export const NOT_CHECKED: ChecksumResult = { checksum: 'not-checked', datasum: 'not-checked' };
 
 function startsWith(bytes: Uint8Array, offset: number, text: string): boolean {
   if (offset + text.length > bytes.length) return false;
@@ -53,7 +53,7 @@ export function readHduHeader(
 ): { header: FitsHeader; layout: HduLayout } | undefined {
   const extent = findHeaderEnd(bytes, offset);
   if (extent === undefined) return undefined;
-  const header = readHeaderCards(bytes, offset, extent.cardCount, hdu, sink);
+  const header = readHeaderCards(bytes, offset, extent.cardCount, hdu, sink, base);
   const layout = layoutOf(header, hdu, base + offset, extent.headerBytes, sink);
   return { header, layout };
 }
@@ -80,14 +80,17 @@ export function reportTrailing(
   else sink.warn('FITS_TRAILING_BYTES', `${n} bytes after the last HDU do not form an HDU`, { hdu, byte: base + offset });
 }
 
-/** Check that the data padding is zero-filled (FITS 3.0 §3.3.2); ASCII tables pad with spaces. */
-function checkPadding(bytes: Uint8Array, layout: HduLayout, sink: DiagnosticSink): void {
-  const from = layout.dataOffset + layout.dataBytes;
-  const to = Math.min(bytes.length, layout.dataOffset + layout.paddedDataBytes);
+/**
+ * Check that the data padding is zero-filled (FITS 3.0 §3.3.2); ASCII tables pad with spaces.
+ * `bytes[0]` is file byte `base` (partial reads pass the data region with base = dataOffset).
+ */
+export function checkPadding(bytes: Uint8Array, layout: HduLayout, sink: DiagnosticSink, base = 0): void {
+  const from = layout.dataOffset + layout.dataBytes - base;
+  const to = Math.min(bytes.length, layout.dataOffset + layout.paddedDataBytes - base);
   const fill = layout.kind === 'ascii-table' ? 0x20 : 0;
   for (let i = from; i < to; i++) {
     if (bytes[i] !== fill) {
-      sink.warn('FITS_NONZERO_PADDING', `data padding byte ${i} is 0x${bytes[i]!.toString(16)}`, { hdu: layout.index, byte: i });
+      sink.warn('FITS_NONZERO_PADDING', `data padding byte ${base + i} is 0x${bytes[i]!.toString(16)}`, { hdu: layout.index, byte: base + i });
       return;
     }
   }
@@ -134,34 +137,50 @@ export function listHdus(bytes: Uint8Array, sink: DiagnosticSink): ListedHdu[] {
   return listed;
 }
 
-/** Verify CHECKSUM and DATASUM of one HDU held in `bytes` (FITS Checksum Proposal; REFERENCE A.8.3). */
-export function verifyHduChecksums(bytes: Uint8Array, listed: ListedHdu, sink: DiagnosticSink): ChecksumResult {
+/**
+ * CHECKSUM / DATASUM statuses of one HDU from its sums (FITS Checksum Proposal; REFERENCE A.8.3):
+ * the whole HDU must sum to -0 (0xFFFFFFFF); DATASUM must equal the data sum.
+ */
+export function checksumStatus(
+  listed: Pick<ListedHdu, 'header' | 'layout'>,
+  headerSum: number,
+  dataSum: number,
+  sink: DiagnosticSink,
+): ChecksumResult {
   const { header, layout } = listed;
-  const hasChecksum = header.has('CHECKSUM');
-  const hasDatasum = header.has('DATASUM');
-  if (!hasChecksum && !hasDatasum) return { checksum: 'absent', datasum: 'absent' };
-  if (listed.truncated) return NOT_CHECKED;
-  const dataEnd = Math.min(bytes.length, layout.dataOffset + layout.paddedDataBytes);
-  // Missing bytes of a short last block count as the zero padding they should have been.
-  const dataSum = onesComplementSum(bytes.subarray(layout.dataOffset, dataEnd));
   const result: ChecksumResult = { checksum: 'absent', datasum: 'absent' };
   const where = { hdu: layout.index, byte: layout.headerOffset };
-  if (hasDatasum) {
+  if (header.has('DATASUM')) {
     const v = header.get('DATASUM');
     const text = typeof v === 'string' ? v.trim() : typeof v === 'number' || typeof v === 'bigint' ? String(v) : '';
     const ok = /^[0-9]+$/.test(text) && Number(text) === dataSum;
     result.datasum = ok ? 'valid' : 'invalid';
     if (!ok) sink.warn('FITS_DATASUM_MISMATCH', `DATASUM is '${text.slice(0, 20)}'; the data sum to ${dataSum}`, { ...where, keyword: 'DATASUM' });
   }
-  if (hasChecksum) {
-    const headerSum = onesComplementSum(bytes.subarray(layout.headerOffset, layout.dataOffset));
+  if (header.has('CHECKSUM')) {
     const total = onesComplementAdd(headerSum, dataSum);
-    // The whole HDU must sum to -0 in ones'-complement arithmetic.
     const ok = total === 0xffffffff;
     result.checksum = ok ? 'valid' : 'invalid';
     if (!ok) sink.warn('FITS_CHECKSUM_MISMATCH', `the HDU sums to 0x${total.toString(16)}, not 0xffffffff`, { ...where, keyword: 'CHECKSUM' });
   }
   return result;
+}
+
+/** True when the header carries CHECKSUM or DATASUM. */
+export function hasChecksumCards(listed: Pick<ListedHdu, 'header'>): boolean {
+  return listed.header.has('CHECKSUM') || listed.header.has('DATASUM');
+}
+
+/** Verify CHECKSUM and DATASUM of one HDU held in `bytes` (the whole file). */
+export function verifyHduChecksums(bytes: Uint8Array, listed: ListedHdu, sink: DiagnosticSink): ChecksumResult {
+  const { layout } = listed;
+  if (!hasChecksumCards(listed)) return { checksum: 'absent', datasum: 'absent' };
+  if (listed.truncated) return { ...NOT_CHECKED };
+  const dataEnd = Math.min(bytes.length, layout.dataOffset + layout.paddedDataBytes);
+  // Missing bytes of a short last block count as the zero padding they should have been.
+  const dataSum = onesComplementSum(bytes.subarray(layout.dataOffset, dataEnd));
+  const headerSum = onesComplementSum(bytes.subarray(layout.headerOffset, layout.dataOffset));
+  return checksumStatus(listed, headerSum, dataSum, sink);
 }
 
 /** Validate `rows` against an image height. */
@@ -254,7 +273,7 @@ export function parseFits(bytes: Uint8Array, opts: ParseOptions = {}): FitsFile 
   const hdus: Hdu[] = [];
   for (const item of listed) {
     const { layout, header } = item;
-    const hdu: Hdu = { layout, header, checksum: NOT_CHECKED };
+    const hdu: Hdu = { layout, header, checksum: { ...NOT_CHECKED } };
     if (targets.has(layout.index)) {
       const shape = imageShape(layout, opts.rows, opts.file);
       checkSize(shape.width * shape.height * shape.planes, maxPixels, layout, sink);

@@ -5,15 +5,27 @@ import { createGunzip, gunzip } from 'node:zlib';
 import { promisify } from 'node:util';
 import { CoreError, FitsFormatError } from '../errors.js';
 import { BLOCK_BYTES, DEFAULT_MAX_PIXELS } from '../fits/constants.js';
-import { decodePixels } from '../fits/decode.js';
+import { onesComplementSum } from '../fits/checksum.js';
+import { alignedBuffer, decodeBuffer } from '../fits/decode.js';
 import { DiagnosticSink } from '../fits/diagnosticSink.js';
 import { findHeaderEnd } from '../fits/header.js';
-import { checkFitsStart, checkSize, decodeTargets, imageShape, parseFits, readHduHeader, reportTrailing } from '../fits/parse.js';
+import {
+  NOT_CHECKED,
+  checkFitsStart,
+  checkPadding,
+  checkSize,
+  checksumStatus,
+  decodeTargets,
+  hasChecksumCards,
+  imageShape,
+  parseFits,
+  readHduHeader,
+  reportTrailing,
+} from '../fits/parse.js';
 import type { ListedHdu } from '../fits/parse.js';
-import type { ChecksumResult, FitsFile, Hdu, ParseOptions } from '../fits/types.js';
+import type { FitsFile, Hdu, ParseOptions } from '../fits/types.js';
 
 const gunzipAsync = promisify(gunzip);
-const NOT_CHECKED: ChecksumResult = { checksum: 'not-checked', datasum: 'not-checked' };
 
 /** A file read for its headers only; `bytesRead` counts the bytes taken from the file. */
 export interface HeaderOnlyFile extends FitsFile {
@@ -52,23 +64,88 @@ async function inflate(bytes: Uint8Array, file: string): Promise<Uint8Array> {
 }
 
 /**
- * Read and parse a whole FITS file (`.gz` files, or any file starting with the gzip magic bytes,
- * are inflated with node:zlib first).
+ * Read and parse a FITS file, with the same result as parseFits on its bytes. Headers are read
+ * block by block and each decoded data unit is read straight into the buffer that becomes its
+ * pixel store (swapped in place), so the file is never held in memory twice. `.gz` files (any file
+ * starting with the gzip magic bytes) are inflated with node:zlib and parsed in memory.
  *
  * @param path - the file; opened read-only.
- * @param opts - as for parseFits; `file` is set to `path`.
+ * @param opts - as for parseFits; `file` is set to `path`. With `rows`, only those rows are read
+ *   and checksums are not checked.
  * @throws CoreError 'INPUT_NOT_FOUND' | 'INPUT_READ_FAILED'; FitsFormatError 'FITS_GZIP' and every
  *   parseFits error, all with `where.file`.
  * @example const fits = await readFitsFile('light_0001.fits');
  */
 export async function readFitsFile(path: string, opts: ParseOptions = {}): Promise<FitsFile> {
-  try {
-    let bytes: Uint8Array = await readFile(path, { flag: 'r' });
-    if (isGzipMagic(bytes)) bytes = await inflate(bytes, path);
-    return parseFits(bytes, { ...opts, file: path });
-  } catch (e) {
-    throw fileError(e, path);
+  return withFile(path, async (fd, size) => {
+    const counter = { n: 0 };
+    const first = firstBlockOf(fd, size, counter);
+    if (isGzipMagic(first)) return parseFits(await inflate(await readFile(path, { flag: 'r' }), path), { ...opts, file: path });
+    return readDirect(fd, size, first, opts, path, counter);
+  });
+}
+
+/** Read `length` bytes at `position` into a fresh aligned buffer (the future pixel store). */
+function readIntoBuffer(fd: number, position: number, length: number, counter: { n: number }): { buffer: ArrayBuffer; bytes: Uint8Array } {
+  const buffer = alignedBuffer(length);
+  const bytes = new Uint8Array(buffer, 0, length);
+  let got = 0;
+  while (got < length) {
+    const n = readSync(fd, bytes, got, length - got, position + got);
+    if (n === 0) break;
+    got += n;
   }
+  counter.n += got;
+  return { buffer, bytes: bytes.subarray(0, got) };
+}
+
+/** parseFits semantics over a file descriptor: headers walked, data units read one at a time. */
+function readDirect(fd: number, size: number, first: Uint8Array, opts: ParseOptions, path: string, counter: { n: number }): FitsFile {
+  const sink = new DiagnosticSink(opts.strict === true, path);
+  const headerBlocks: Uint8Array[] = [];
+  const listed = walkHeaders(fd, size, sink, undefined, counter, first, headerBlocks);
+  const decode = opts.decode ?? true;
+  const verify = (opts.verifyChecksums ?? decode) && opts.rows === undefined;
+  const maxPixels = opts.maxPixels ?? DEFAULT_MAX_PIXELS;
+  const targets = decode ? decodeTargets(listed, { ...opts, file: path }, sink) : new Set<number>();
+  const hdus: Hdu[] = [];
+  for (const item of listed) {
+    const { layout, header } = item;
+    const hdu: Hdu = { layout, header, checksum: { ...NOT_CHECKED } };
+    hdus.push(hdu);
+    const checked = verify && (opts.hdu === undefined || opts.hdu === layout.index);
+    const wantSum = checked && hasChecksumCards(item) && !item.truncated;
+    if (checked && !hasChecksumCards(item)) hdu.checksum = { checksum: 'absent', datasum: 'absent' };
+    const available = Math.max(0, Math.min(layout.paddedDataBytes, size - layout.dataOffset));
+    if (targets.has(layout.index)) {
+      const shape = imageShape(layout, opts.rows, path);
+      const count = shape.width * shape.height * shape.planes;
+      checkSize(count, maxPixels, layout, sink);
+      if (item.truncated) {
+        throw sink.error('FITS_TRUNCATED', `HDU ${layout.index}: data end at byte ${layout.dataOffset + layout.dataBytes}, the file at ${size}`, {
+          hdu: layout.index,
+          byte: size,
+        });
+      }
+      const bytesPer = Math.abs(layout.bitpix) / 8;
+      if (opts.rows !== undefined) {
+        const from = layout.dataOffset + shape.rowStart * shape.width * bytesPer;
+        const { buffer } = readIntoBuffer(fd, from, count * bytesPer, counter);
+        if (count > 0) hdu.image = decodeBuffer(buffer, layout, shape);
+        continue;
+      }
+      // Data and padding in one read; the checksum is taken before the in-place swap.
+      const { buffer, bytes } = readIntoBuffer(fd, layout.dataOffset, available, counter);
+      checkPadding(bytes, layout, sink, layout.dataOffset);
+      if (wantSum) hdu.checksum = checksumStatus(item, onesComplementSum(headerBlocks[layout.index]!), onesComplementSum(bytes), sink);
+      if (count > 0) hdu.image = decodeBuffer(buffer, layout, shape);
+    } else if (wantSum) {
+      const { bytes } = readIntoBuffer(fd, layout.dataOffset, available, counter);
+      checkPadding(bytes, layout, sink, layout.dataOffset);
+      hdu.checksum = checksumStatus(item, onesComplementSum(headerBlocks[layout.index]!), onesComplementSum(bytes), sink);
+    }
+  }
+  return { hdus, diagnostics: sink.list };
 }
 
 /** Read exactly `length` bytes at `position` (fewer at the end of the file). */
@@ -126,6 +203,8 @@ function walkHeaders(
   stopAfter: number | undefined,
   counter: { n: number },
   firstBlock: Uint8Array,
+  /** Receives each HDU's header bytes (for checksums), when given. */
+  headerBlocks?: Uint8Array[],
 ) {
   const listed: ListedHdu[] = [];
   let offset = 0;
@@ -146,6 +225,7 @@ function walkHeaders(
     }
     const item: ListedHdu = { header: read.header, layout: read.layout, truncated: false };
     listed.push(item);
+    headerBlocks?.push(bytes.subarray(0, read.layout.headerBytes));
     if (!checkDataEnd(item, size, sink)) break;
     if (stopAfter !== undefined && hdu >= stopAfter) break;
     offset = read.layout.dataOffset + read.layout.paddedDataBytes;
@@ -277,7 +357,7 @@ export async function readFitsHeaders(path: string, opts: ParseOptions = {}): Pr
     }
     return walkHeaders(fd, size, sink, undefined, counter, first);
   });
-  const hdus: Hdu[] = listed.map(({ header, layout }) => ({ header, layout, checksum: NOT_CHECKED }));
+  const hdus: Hdu[] = listed.map(({ header, layout }) => ({ header, layout, checksum: { ...NOT_CHECKED } }));
   return { hdus, diagnostics: sink.list, bytesRead: counter.n };
 }
 
@@ -319,9 +399,9 @@ export async function readFitsRows(path: string, range: RowRange, opts: ParseOpt
     if (from + length > size) {
       throw sink.error('FITS_TRUNCATED', `HDU ${target}: rows end at byte ${from + length}, the file at ${size}`, { hdu: target, byte: size });
     }
-    const bytes = readAt(fd, from, length, counter);
-    const hdus: Hdu[] = listed.map(({ header, layout: l }) => ({ header, layout: l, checksum: NOT_CHECKED }));
-    if (length > 0) hdus[target]!.image = decodePixels(bytes, layout, shape);
+    const { buffer } = readIntoBuffer(fd, from, length, counter);
+    const hdus: Hdu[] = listed.map(({ header, layout: l }) => ({ header, layout: l, checksum: { ...NOT_CHECKED } }));
+    if (length > 0) hdus[target]!.image = decodeBuffer(buffer, layout, shape);
     return { hdus, diagnostics: sink.list };
   });
 }

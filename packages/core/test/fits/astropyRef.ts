@@ -92,7 +92,7 @@ export function firstDifference(ours: ArrayLike<number | bigint>, ref: (number |
   return -1;
 }
 
-/** Digest of one HDU as astropy reads it: dtype, shape, sha256 of the values (int64 / uint64 / float64, little-endian). */
+/** Digest of one HDU as astropy reads it: dtype, shape, sha256 of the values (float64, or int64 / uint64 for 64-bit integers; little-endian). */
 export interface AstropyDigest {
   kind: string;
   dtype: string | null;
@@ -108,7 +108,7 @@ import sys, json, warnings, hashlib, numpy as np
 from astropy.io import fits
 warnings.simplefilter('ignore')
 def canon(a):
-    if a.dtype.kind == 'f':
+    if a.dtype.kind == 'f' or a.dtype.itemsize <= 4:
         b = np.asarray(a, dtype='<f8').copy()
         b[np.isnan(b)] = np.nan
         return b.tobytes()

@@ -6,6 +6,8 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { CoreError } from '../../src/errors.js';
 import { parseFits } from '../../src/fits/index.js';
+import type { FitsFile } from '../../src/fits/index.js';
+import { readFitsFile } from '../../src/node/index.js';
 import type { CardValue, Hdu, Pixels } from '../../src/fits/index.js';
 import { astropyDigests, haveAstropy } from './astropyRef.js';
 import type { AstropyDigest } from './astropyRef.js';
@@ -24,16 +26,20 @@ function fitsFilesIn(folder: string): string[] {
     .map((f) => join(folder, f));
 }
 
-/** Same canonical bytes as the python side: int64 / uint64 / float64 little-endian, NaN canonical. */
+/** Same canonical bytes as the python side: float64 (int64 / uint64 for 64-bit integers), little-endian, NaN canonical. */
 function digest(pixels: Pixels): string {
   let canon: BigInt64Array | BigUint64Array | Float64Array;
   if (pixels instanceof BigInt64Array || pixels instanceof BigUint64Array) canon = pixels;
-  else if (pixels instanceof Float32Array || pixels instanceof Float64Array) {
-    canon = Float64Array.from(pixels, (v) => (Number.isNaN(v) ? NaN : v));
-  } else {
-    canon = BigInt64Array.from(pixels as ArrayLike<number>, (v) => BigInt(v));
+  else {
+    canon = Float64Array.from(pixels as ArrayLike<number>);
+    for (let i = 0; i < canon.length; i++) if (Number.isNaN(canon[i])) canon[i] = NaN;
   }
   return createHash('sha256').update(new Uint8Array(canon.buffer, canon.byteOffset, canon.byteLength)).digest('hex');
+}
+
+/** Digest of the typed array's own bytes (for comparing two of our results). */
+function rawDigest(pixels: Pixels): string {
+  return createHash('sha256').update(new Uint8Array(pixels.buffer, pixels.byteOffset, pixels.byteLength)).digest('hex');
 }
 
 function sameValue(ours: CardValue | undefined, type: string, text: string): boolean {
@@ -139,5 +145,41 @@ describe('real files from other writers (astropy 5.2.1 test data; eso-midas-test
     expect(problems.filter((p) => !KNOWN.some((k) => p.includes(k)))).toEqual([]);
     // Each known difference is still there (so the list stays honest).
     for (const k of KNOWN) expect(problems.some((p) => p.includes(k)), k).toBe(true);
+  }, 120_000);
+});
+
+describe('readFitsFile on real files', () => {
+  it('readFitsFile(path) gives what parseFits(bytes) gives: layouts, headers, pixels, checksums and diagnostics', async () => {
+    const files = [...fitsFilesIn(ASTROPY_DATA), ...fitsFilesIn(join(MIDAS, 'fits')), ...fitsFilesIn(join(MIDAS, 'prim'))];
+    const summary = (f: FitsFile | string) =>
+      typeof f === 'string'
+        ? f
+        : JSON.stringify({
+            hdus: f.hdus.map((h) => ({
+              layout: { ...h.layout, bzero: String(h.layout.bzero), blank: String(h.layout.blank) },
+              cards: h.header.cards.map((c) => c.raw),
+              checksum: h.checksum,
+              image: h.image && { ...h.image, pixels: `${h.image.pixels.constructor.name} ${rawDigest(h.image.pixels)}`, blankValue: String(h.image.blankValue) },
+            })),
+            diagnostics: f.diagnostics.map((d) => JSON.stringify(d)).sort(),
+          });
+    let compared = 0;
+    for (const file of files) {
+      let fromBytes: FitsFile | string;
+      let fromFile: FitsFile | string;
+      try {
+        fromBytes = parseFits(readFileSync(file), { file });
+      } catch (e) {
+        fromBytes = `${(e as CoreError).code} ${JSON.stringify((e as CoreError).where)}`;
+      }
+      try {
+        fromFile = await readFitsFile(file);
+      } catch (e) {
+        fromFile = `${(e as CoreError).code} ${JSON.stringify((e as CoreError).where)}`;
+      }
+      expect(summary(fromFile), file).toBe(summary(fromBytes));
+      compared++;
+    }
+    if (files.length > 0) expect(compared).toBeGreaterThan(50);
   }, 120_000);
 });
