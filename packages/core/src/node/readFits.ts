@@ -338,7 +338,8 @@ function firstBlockOf(fd: number, size: number, counter: { n: number }): Uint8Ar
  * inflated as a stream whose data bytes are dropped as they pass.
  *
  * @param path - the file; opened read-only.
- * @param opts - `strict` (warnings become errors); other ParseOptions are ignored.
+ * @param opts - `strict` (warnings become errors); `hdu`: stop after that HDU (a gzip stream is
+ *   then inflated no further). Other ParseOptions are ignored.
  * @returns the HDUs (headers and layouts, no pixels), diagnostics and the number of bytes read.
  *   Data declared past the end of the file give a FITS_TRUNCATED diagnostic, not an error.
  * @throws CoreError 'INPUT_NOT_FOUND' | 'INPUT_READ_FAILED'; FitsFormatError for bad headers or
@@ -353,9 +354,9 @@ export async function readFitsHeaders(path: string, opts: ParseOptions = {}): Pr
     if (isGzipMagic(first)) {
       // The stream reads the file again from its start; count only what it reads.
       counter.n = 0;
-      return walkGzipHeaders(path, sink, undefined, counter);
+      return walkGzipHeaders(path, sink, opts.hdu, counter);
     }
-    return walkHeaders(fd, size, sink, undefined, counter, first);
+    return walkHeaders(fd, size, sink, opts.hdu, counter, first);
   });
   const hdus: Hdu[] = listed.map(({ header, layout }) => ({ header, layout, checksum: { ...NOT_CHECKED } }));
   return { hdus, diagnostics: sink.list, bytesRead: counter.n };

@@ -95,6 +95,15 @@ describe('node file access (@subgauge/core/node)', () => {
     expect(fits.diagnostics).toEqual([]);
   });
 
+  it('readFitsHeaders(path, { hdu: 0 }) stops after that HDU, for plain and gzip files', async () => {
+    const plainFirst = await readFitsHeaders(plain, { hdu: 0 });
+    expect(plainFirst.hdus).toHaveLength(1);
+    expect(plainFirst.bytesRead).toBe(2880);
+    const gzFirst = await readFitsHeaders(gz, { hdu: 0 });
+    expect(gzFirst.hdus).toHaveLength(1);
+    expect(gzFirst.hdus[0]!.header.number('EXPTIME')).toBe(120);
+  });
+
   it('readFitsRows(path, { start, count }) returns just those rows, reading only their byte range', async () => {
     const rows = await readFitsRows(plain, { start: 10, count: 3 });
     const img = rows.hdus[0]!.image!;
