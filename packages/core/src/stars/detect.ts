@@ -45,6 +45,7 @@ export function defaultSaturationAdu(pixels: NumericPixels): number {
 function thresholdRaw(image: StarImage, background: LevelMap, noise: LevelMap, k: number, runs: RunList): number {
   const { pixels: px, width: w, height: h } = image;
   let above = 0;
+  // one loop per kind of level so the hot loop carries no type tests
   if (typeof background === 'number' && typeof noise === 'number') {
     const t = background + k * noise;
     for (let y = 0; y < h; y++) {
@@ -59,28 +60,38 @@ function thresholdRaw(image: StarImage, background: LevelMap, noise: LevelMap, k
         } else x++;
       }
     }
-    return above;
-  }
-  const thr = new Float64Array(w);
-  for (let y = 0; y < h; y++) {
-    const base = y * w;
-    if (typeof background === 'number') {
-      const nm = noise as Float32Array | Float64Array;
-      for (let x = 0; x < w; x++) thr[x] = background + k * nm[base + x]!;
-    } else if (typeof noise === 'number') {
-      const kn = k * noise;
-      for (let x = 0; x < w; x++) thr[x] = background[base + x]! + kn;
-    } else {
-      for (let x = 0; x < w; x++) thr[x] = background[base + x]! + k * noise[base + x]!;
+  } else if (typeof noise === 'number') {
+    const bg = background as Float32Array | Float64Array;
+    const kn = k * noise;
+    for (let y = 0; y < h; y++) {
+      const base = y * w;
+      let x = 0;
+      while (x < w) {
+        const i = base + x;
+        if (px[i]! > bg[i]! + kn) {
+          const x0 = x++;
+          while (x < w && px[base + x]! > bg[base + x]! + kn) x++;
+          runs.push(y, x0, x - 1);
+          above += x - x0;
+        } else x++;
+      }
     }
-    let x = 0;
-    while (x < w) {
-      if (px[base + x]! > thr[x]!) {
-        const x0 = x++;
-        while (x < w && px[base + x]! > thr[x]!) x++;
-        runs.push(y, x0, x - 1);
-        above += x - x0;
-      } else x++;
+  } else {
+    const nm = noise;
+    const bgMap = typeof background === 'number' ? null : background;
+    const bs = typeof background === 'number' ? background : 0;
+    for (let y = 0; y < h; y++) {
+      const base = y * w;
+      let x = 0;
+      while (x < w) {
+        const i = base + x;
+        if (px[i]! > (bgMap === null ? bs : bgMap[i]!) + k * nm[i]!) {
+          const x0 = x++;
+          while (x < w && px[base + x]! > (bgMap === null ? bs : bgMap[base + x]!) + k * nm[base + x]!) x++;
+          runs.push(y, x0, x - 1);
+          above += x - x0;
+        } else x++;
+      }
     }
   }
   return above;

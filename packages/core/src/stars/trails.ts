@@ -161,17 +161,37 @@ function binnedMeans(image: StarImage, background: LevelMap, masks: MaskSet, bin
     }
     sum.fill(0);
     cnt.fill(0);
+    const bgMap = typeof background === 'number' ? null : background;
+    const bs = typeof background === 'number' ? background : 0;
     for (let ry = 0; ry < rows; ry++) {
       const base = (y0 + ry) * w;
       const mbase = ry * w;
-      for (let x = 0; x < w; x++) {
-        if (bandMask[mbase + x]) continue;
-        const f = px[base + x]! - (typeof background === 'number' ? background : background[base + x]!);
-        if (f === f) {
-          const bx = (x / bin) | 0;
-          sum[bx]! += f;
-          cnt[bx]!++;
+      for (let bx = 0; bx < bw; bx++) {
+        const xa = bx * bin;
+        const xe = Math.min(w, xa + bin);
+        let s = 0;
+        let c = 0;
+        if (bgMap === null) {
+          for (let x = xa; x < xe; x++) {
+            if (bandMask[mbase + x]) continue;
+            const f = px[base + x]! - bs;
+            if (f === f) {
+              s += f;
+              c++;
+            }
+          }
+        } else {
+          for (let x = xa; x < xe; x++) {
+            if (bandMask[mbase + x]) continue;
+            const f = px[base + x]! - bgMap[base + x]!;
+            if (f === f) {
+              s += f;
+              c++;
+            }
+          }
         }
+        sum[bx]! += s;
+        cnt[bx]! += c;
       }
     }
     for (let bx = 0; bx < bw; bx++) {

@@ -1,0 +1,41 @@
+// One call for the per-frame audit: detection and shapes, the frame summary, and the trail check.
+
+import { detectStars } from './detect.js';
+import { summarizeStars } from './summary.js';
+import { detectTrails } from './trails.js';
+import type {
+  DetectStarsOptions,
+  DetectTrailsOptions,
+  LevelMap,
+  StarDetection,
+  StarFieldSummary,
+  StarImage,
+  StarSummaryOptions,
+  TrailDetection,
+} from './types.js';
+
+/** Options of {@link analyzeStars}: the shared background and noise, and per-step options. */
+export interface AnalyzeStarsOptions {
+  background: LevelMap;
+  noise: LevelMap;
+  detect?: Omit<DetectStarsOptions, 'background' | 'noise'>;
+  summary?: StarSummaryOptions;
+  /** Trail check options, or false to skip it. */
+  trails?: Omit<DetectTrailsOptions, 'background' | 'noise' | 'sources'> | false;
+}
+
+/** Result of {@link analyzeStars}. `trails` is null when the check was skipped. */
+export interface StarAnalysis {
+  detection: StarDetection;
+  summary: StarFieldSummary;
+  trails: TrailDetection | null;
+}
+
+/** Detect and measure stars, summarise them, and look for trails with the detected sources masked. */
+export function analyzeStars(image: StarImage, options: AnalyzeStarsOptions): StarAnalysis {
+  const { background, noise } = options;
+  const detection = detectStars(image, { ...options.detect, background, noise });
+  const summary = summarizeStars(detection.sources, options.summary);
+  const trails = options.trails === false ? null : detectTrails(image, { ...options.trails, background, noise, sources: detection.sources });
+  return { detection, summary, trails };
+}
