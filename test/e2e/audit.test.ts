@@ -7,7 +7,7 @@ interface FrameTruth { file: string; kind: string; defects: { kind: string }[]; 
 
 // Truth: the project's simulator injects each defect on its own frame and lists the reason codes an audit should
 // give (truth.json `expectedReasons`). Several seeds; clean frames must be kept (>= 95 % over the runs).
-describe.each([21, 22])('subgauge audit on a simulated night (seed %i)', (seed) => {
+describe.each([2, 21, 22])('subgauge audit on a simulated night (seed %i)', (seed) => {
   const t = tempDir();
   const session = path.join(t.dir, 'night');
   let truth: { frames: FrameTruth[] };

@@ -23,9 +23,9 @@ export interface AuditLimits {
   cloud: {
     /** Star count below this fraction of the median ... */
     starCountRatioBelow: number;
-    /** ... and sky (background - pedestal) changed by more than this fraction either way, with |z| >= zLimit, ... */
+    /** ... together with the sky (background - pedestal) changed by more than this fraction either way, with |z| >= zLimit; */
     skyChangeFraction: number;
-    /** ... or star signal below this fraction of the median (transparency loss), with z <= -zLimit. */
+    /** or, on its own, star signal below this fraction of the median (transparency loss), with z <= -zLimit. */
     transparencyRatioBelow: number;
     zLimit: number;
     severity: ReasonSeverity;

@@ -149,33 +149,37 @@ export function sessionRules(
   const starMed = med('starCount');
   const skyMed = med('skyAdu');
 
-  // Cloud: star loss with a sky change or a transparency loss.
+  // Cloud: a transparency loss (the brightest stars' signal falls), or a star loss with a sky change. The
+  // transparency test stands alone: it measures the cloud directly, while star counts also move with seeing.
   const c = limits.cloud;
   let cloud = false;
-  if (stars !== undefined && starMed !== undefined && starMed > 0 && z.starCount !== null) {
-    const starLimit = c.starCountRatioBelow * starMed;
-    if (stars < starLimit && z.starCount <= -c.zLimit) {
-      const evidence: ReasonDetail[] = [];
-      if (sky !== undefined && skyMed !== undefined && skyMed > 0 && z.skyAdu !== null) {
-        if (sky > skyMed * (1 + c.skyChangeFraction) && z.skyAdu >= c.zLimit) {
-          evidence.push(d('cloud', 'skyAdu', 'above', sky, skyMed, skyMed * (1 + c.skyChangeFraction), z.skyAdu, c.zLimit));
-        } else if (sky < skyMed * (1 - c.skyChangeFraction) && z.skyAdu <= -c.zLimit) {
-          evidence.push(d('cloud', 'skyAdu', 'below', sky, skyMed, skyMed * (1 - c.skyChangeFraction), z.skyAdu, c.zLimit));
-        }
+  {
+    const evidence: ReasonDetail[] = [];
+    const sig = finite(f.starSignalAdu);
+    const sigMed = med('starSignalAdu');
+    const transparencyLoss =
+      sig !== undefined && sigMed !== undefined && sigMed > 0 && z.starSignalAdu !== null &&
+      sig < c.transparencyRatioBelow * sigMed && z.starSignalAdu <= -c.zLimit;
+    const starLimit = starMed !== undefined ? c.starCountRatioBelow * starMed : undefined;
+    const starLoss =
+      stars !== undefined && starMed !== undefined && starMed > 0 && starLimit !== undefined && z.starCount !== null &&
+      stars < starLimit && z.starCount <= -c.zLimit;
+    let skyEvidence: ReasonDetail | undefined;
+    if (sky !== undefined && skyMed !== undefined && skyMed > 0 && z.skyAdu !== null) {
+      if (sky > skyMed * (1 + c.skyChangeFraction) && z.skyAdu >= c.zLimit) {
+        skyEvidence = d('cloud', 'skyAdu', 'above', sky, skyMed, skyMed * (1 + c.skyChangeFraction), z.skyAdu, c.zLimit);
+      } else if (sky < skyMed * (1 - c.skyChangeFraction) && z.skyAdu <= -c.zLimit) {
+        skyEvidence = d('cloud', 'skyAdu', 'below', sky, skyMed, skyMed * (1 - c.skyChangeFraction), z.skyAdu, c.zLimit);
       }
-      const sig = finite(f.starSignalAdu);
-      const sigMed = med('starSignalAdu');
-      if (sig !== undefined && sigMed !== undefined && sigMed > 0 && z.starSignalAdu !== null) {
-        if (sig < c.transparencyRatioBelow * sigMed && z.starSignalAdu <= -c.zLimit) {
-          evidence.push(
-            d('cloud', 'starSignalAdu', 'below', sig, sigMed, c.transparencyRatioBelow * sigMed, z.starSignalAdu, c.zLimit),
-          );
-        }
+    }
+    if (transparencyLoss || (starLoss && skyEvidence)) {
+      cloud = true;
+      if (starLoss) evidence.push(d('cloud', 'starCount', 'below', stars!, starMed!, starLimit!, z.starCount, c.zLimit));
+      if (skyEvidence) evidence.push(skyEvidence);
+      if (transparencyLoss) {
+        evidence.push(d('cloud', 'starSignalAdu', 'below', sig!, sigMed!, c.transparencyRatioBelow * sigMed!, z.starSignalAdu, c.zLimit));
       }
-      if (evidence.length > 0) {
-        cloud = true;
-        out.push(d('cloud', 'starCount', 'below', stars, starMed, starLimit, z.starCount, c.zLimit), ...evidence);
-      }
+      out.push(...evidence);
     }
   }
 
