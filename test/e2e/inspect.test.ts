@@ -84,6 +84,16 @@ describe('subgauge inspect on a folder with good and bad files', () => {
     expect(m).toMatchObject({ min: 0, max: 33, mean: 16.5, median: 16.5, validCount: 4 });
   });
 
+  it('inspect reports the quantization step, the minimum-code fraction and, for --region, the region SNR', async () => {
+    const r = await runCli(['inspect', path.join(dir, 'lights', 'good_2.fits'), '--region', '8,8,4,4', '--json']);
+    const m = JSON.parse(r.stdout).files[0].hdus[0].measurements;
+    // 4x4 block of a 32-wide ramp starting at (8,8): distinct values differ by 1 → step 1; min code 264 once in 16
+    expect(m.quantizationStepAdu).toBe(1);
+    expect(m.atMinimumFraction).toBeCloseTo(1 / 16, 12);
+    expect(m.regionSnr.pixelCount).toBe(16);
+    expect(Number.isFinite(m.regionSnr.backgroundAdu)).toBe(true);
+  });
+
   it('inspect with a bad --region is a usage error (exit 2)', async () => {
     const r = await runCli(['inspect', dir, '--region', '1,2,3']);
     expect(r.code).toBe(2);
