@@ -24,7 +24,7 @@ function describe(value: unknown): string {
 /**
  * Check a parsed JSON value against the result schema its `schema` tag names.
  * @param value - the parsed JSON document
- * @param file - where it came from, for messages
+ * @param file - where it came from (`where.file` of errors)
  * @returns the document (unknown fields kept)
  * @throws InvalidInputError `INPUT_BAD_RESULT` with `where.file` and `where.keyword` = the first failing field
  *   (`schema` when the tag is missing, unknown or of another version)
@@ -33,14 +33,14 @@ function describe(value: unknown): string {
 export function parseResultDocument(value: unknown, file = '(result)'): ResultDocument {
   const known = Object.keys(RESULT_SCHEMAS);
   if (typeof value !== 'object' || value === null || Array.isArray(value)) {
-    throw new InvalidInputError('INPUT_BAD_RESULT', `${file}: expected a JSON object with a "schema" field; found ${describe(value)}`, {
+    throw new InvalidInputError('INPUT_BAD_RESULT', `expected a JSON object with a "schema" field; found ${describe(value)}`, {
       file,
       keyword: 'schema',
     });
   }
   const tag = (value as { schema?: unknown }).schema;
   if (typeof tag !== 'string') {
-    throw new InvalidInputError('INPUT_BAD_RESULT', `${file}: schema: expected one of ${known.join(', ')}; found ${describe(tag)}`, {
+    throw new InvalidInputError('INPUT_BAD_RESULT', `schema: expected one of ${known.join(', ')}; found ${describe(tag)}`, {
       file,
       keyword: 'schema',
     });
@@ -51,7 +51,7 @@ export function parseResultDocument(value: unknown, file = '(result)'): ResultDo
     const why = sameKind
       ? `this version of subgauge reads ${sameKind}`
       : `the report shows ${known.join(', ')}`;
-    throw new InvalidInputError('INPUT_BAD_RESULT', `${file}: schema: ${JSON.stringify(tag)} is not supported (${why})`, {
+    throw new InvalidInputError('INPUT_BAD_RESULT', `schema: ${JSON.stringify(tag)} is not supported (${why})`, {
       file,
       keyword: 'schema',
     });
@@ -62,5 +62,5 @@ export function parseResultDocument(value: unknown, file = '(result)'): ResultDo
   const field = fieldPath(issue.path);
   const more = parsed.error.issues.length > 1 ? ` (and ${parsed.error.issues.length - 1} more)` : '';
   const message = issue.message.replace(/^Invalid input: /, '');
-  throw new InvalidInputError('INPUT_BAD_RESULT', `${file}: ${tag}: ${field}: ${message}${more}`, { file, keyword: field });
+  throw new InvalidInputError('INPUT_BAD_RESULT', `${tag}: ${field}: ${message}${more}`, { file, keyword: field });
 }

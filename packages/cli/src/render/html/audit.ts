@@ -68,7 +68,7 @@ function metricFigure(
       const reasons = f.reasons.length ? ` (${f.reasons.map(codeWords).join(', ')})` : '';
       return [{ x: x(f, i), y, label: `${f.file}: ${v}${reasons}, ${num(y, 4)}`, data: { file: f.file, verdict: v } }];
     });
-    return { kind: 'points' as const, name: `${style.symbol} ${v} (${points.length})`, color: style.color, marker: style.marker, points, data: { verdict: v } };
+    return { kind: 'points' as const, name: `${v} (${points.length})`, color: style.color, marker: style.marker, points, data: { verdict: v } };
   }).filter((s) => s.points.length > 0);
   const svg = renderPlot({
     id,
@@ -82,9 +82,36 @@ function metricFigure(
   return figureHtml(id, svg, lead, caption);
 }
 
+/** Words and units of the metrics named in reason details (field names of FrameMetrics and the audit). */
+const METRIC_WORDS: Readonly<Record<string, [string, string]>> = {
+  skyAdu: ['sky', 'ADU'],
+  backgroundAdu: ['background', 'ADU'],
+  noiseAdu: ['noise', 'ADU'],
+  gradientPercent: ['gradient', '%'],
+  starCount: ['stars', ''],
+  fwhmPixels: ['FWHM', 'px'],
+  fwhmArcsec: ['FWHM', '″'],
+  elongation: ['elongation', ''],
+  starSignalAdu: ['star signal', 'ADU'],
+  trailCount: ['trails', ''],
+  trailLengthPixels: ['trail length', 'px'],
+  saturatedPixelFraction: ['saturated pixels', ''],
+  saturatedStarFraction: ['saturated stars', ''],
+  exposureSeconds: ['exposure', 's'],
+  gainSetting: ['gain setting', ''],
+  offsetSetting: ['offset setting', ''],
+  sensorTemperatureCelsius: ['sensor', '°C'],
+  binning: ['binning', ''],
+  size: ['size', ''],
+};
+
 function detailText(d: NonNullable<AuditFrameDocument['details']>[number]): string {
-  const v = (x: unknown) => (typeof x === 'number' ? num(x, 3) : x === null || x === undefined ? '\u2013' : String(x));
-  const parts = [`${d.metric} ${v(d.value)}`];
+  const [word, unit] = METRIC_WORDS[d.metric] ?? [d.metric, ''];
+  const v = (x: unknown) => {
+    const t = typeof x === 'number' ? num(x, 3) : x === null || x === undefined ? '\u2013' : String(x);
+    return unit && typeof x === 'number' ? `${t}\u00a0${unit}` : t;
+  };
+  const parts = [`${word} ${v(d.value)}`];
   if (d.limit !== null && d.limit !== undefined) parts.push(`limit ${v(d.limit)}`);
   if (d.reference !== null && d.reference !== undefined) parts.push(`session ${v(d.reference)}`);
   return parts.join(', ');
@@ -94,20 +121,25 @@ function verdictHtml(v: AuditFrameDocument['verdict']): string {
   return `<span class="verdict ${v}">${VERDICT_STYLES[v].symbol} ${v}</span>`;
 }
 
+function clock(ms: number): string {
+  return utcTime(ms).slice(11);
+}
+
 function frameTable(doc: AuditDocument): string {
-  const rows = doc.frames.map((f, i) => {
+  const days = new Set(doc.frames.flatMap((f) => (isNum(f.metrics?.startTimeMs) ? [utcTime(f.metrics.startTimeMs).slice(0, 10)] : [])));
+  const oneDay = days.size <= 1;
+  const rows = doc.frames.map((f) => {
     const m = f.metrics;
     const reasons = f.reasons.length
       ? esc(f.reasons.map(codeWords).join(', ')) + (f.details ?? []).map((d) => `<span class="detail">${esc(detailText(d))}</span>`).join('')
       : f.error
         ? esc(`${f.error.code}: ${f.error.message ?? ''}`)
         : '';
+    const exposure = isNum(m?.exposureSeconds) ? `${num(m.exposureSeconds, 4)} s` : '';
     return [
-      String(i + 1),
       { html: esc(f.file) + (m?.object ? `<span class="detail">${esc(m.object)}</span>` : '') },
-      isNum(m?.startTimeMs) ? utcTime(m.startTimeMs) : '\u2013',
-      m?.filter ?? '\u2013',
-      num(m?.exposureSeconds, 4),
+      isNum(m?.startTimeMs) ? (oneDay ? clock(m.startTimeMs) : utcTime(m.startTimeMs)) : '\u2013',
+      [m?.filter ?? '', exposure].filter(Boolean).join(' \u00b7 ') || '\u2013',
       { html: verdictHtml(f.verdict) },
       { html: reasons },
       num(m?.backgroundAdu, 5),
@@ -117,17 +149,16 @@ function frameTable(doc: AuditDocument): string {
       num(f.weight, 3),
     ];
   });
+  const day = oneDay && days.size === 1 ? ` (${[...days][0]})` : '';
   return tableHtml(
     'audit-frames',
     'Every light frame with its verdict and the facts behind each reason',
     [
-      { header: '#', numeric: true },
       { header: 'file', className: 'file' },
-      { header: 'start (UTC)' },
-      { header: 'filter' },
-      { header: 'exposure (s)', numeric: true },
+      { header: `start, UTC${day}`, className: 'time' },
+      { header: 'filter · exposure', className: 'time' },
       { header: 'verdict' },
-      { header: 'reasons' },
+      { header: 'reasons', className: 'reasons' },
       { header: 'background (ADU)', numeric: true },
       { header: 'noise (ADU)', numeric: true },
       { header: 'FWHM (px)', numeric: true },

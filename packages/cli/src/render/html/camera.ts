@@ -94,6 +94,7 @@ function ptcSeries(m: Measurement, prefix: string): Series[] {
       name: 'read-noise floor',
       color: 'bluishGreen',
       label: `read noise ${num(rnAdu, 3)} ADU (${num(m.readNoiseElectrons, 3)} e\u207b)`,
+      labelAt: 'start',
       data: { role: 'read-noise' },
     });
   }
@@ -106,6 +107,7 @@ function ptcSeries(m: Measurement, prefix: string): Series[] {
       name: fw.reached ? 'full well' : 'brightest level (full well not reached)',
       color: 'reddishPurple',
       label: fw.reached ? `full well ${electronsText(fw.fullWellElectrons)}` : `\u2265 ${electronsText(fw.fullWellElectrons)}`,
+      labelAt: 'start',
       data: { role: 'full-well', electrons: fw.fullWellElectrons ?? null },
     });
   }
@@ -166,12 +168,27 @@ function gainFigure(m: Measurement): string {
   series.push({ kind: 'points', name: 'per level, in fit', color: 'ink', marker: 'circle', points: pts.filter((p) => p.inFit).map(point) });
   const out = pts.filter((p) => !p.inFit);
   if (out.length) series.push({ kind: 'points', name: 'per level, left out', color: 'orange', marker: 'square', hollow: true, points: out.map(point) });
+  // The axis spans the fitted gain ± 30 % (and the in-fit points' error bars): saturated pairs give wild
+  // per-level gains that would flatten the rest; they stay in the markup (clipped) with their values.
+  let yDomain: [number, number] | undefined;
+  if (isNum(g) && g > 0) {
+    let lo = g * 0.7;
+    let hi = g * 1.3;
+    for (const p of pts) {
+      if (!p.inFit) continue;
+      const e = isNum(p.gainUncertaintyElectronsPerAdu) ? p.gainUncertaintyElectronsPerAdu : 0;
+      lo = Math.min(lo, p.gainElectronsPerAdu! - e);
+      hi = Math.max(hi, p.gainElectronsPerAdu! + e);
+    }
+    yDomain = [lo, hi];
+  }
+  const hidden = yDomain ? pts.filter((p) => p.gainElectronsPerAdu! < yDomain![0] || p.gainElectronsPerAdu! > yDomain![1]).length : 0;
   const svg = renderPlot({
     id,
     title: 'Gain at each signal level',
     description: 'Two-flat, two-bias gain of each flat pair against its signal, with error bars, and the fitted gain with its uncertainty band.',
     x: { label: 'signal S (ADU, bias subtracted)', scale: 'log' },
-    y: { label: 'gain (e\u207b/ADU)' },
+    y: { label: 'gain (e\u207b/ADU)', ...(yDomain ? { domain: yDomain } : {}) },
     series,
   });
   const spread = (m as { gainCrossChecks?: { perLevel?: { spreadElectronsPerAdu?: number } } }).gainCrossChecks?.perLevel;
@@ -181,7 +198,7 @@ function gainFigure(m: Measurement): string {
     'Gain per level.',
     `Each pair gives g = S/(σ² − σ²read) (Howell 2006, §4.3) with its standard error; a flat run means a linear sensor.${
       spread && isNum(spread.spreadElectronsPerAdu) ? ` Spread of the per-level gains: ${num(spread.spreadElectronsPerAdu, 2)} e\u207b/ADU.` : ''
-    }`,
+    }${hidden ? ` ${hidden} pair${hidden > 1 ? 's' : ''} outside the axis range (near saturation) not drawn.` : ''}`,
   );
 }
 
@@ -313,43 +330,47 @@ function headlineCards(doc: CameraDocument): Card[] {
   const cards: Card[] = [
     {
       label: 'Gain',
-      value: plusMinus(doc.gainElectronsPerAdu, doc.gainUncertaintyElectronsPerAdu, 'e\u207b/ADU'),
+      value: plusMinus(doc.gainElectronsPerAdu, doc.gainUncertaintyElectronsPerAdu, ''),
+      unit: 'e\u207b/ADU',
       sub: 'photon-transfer fit',
       data: doc.gainElectronsPerAdu,
     },
     {
       label: 'Read noise',
-      value: plusMinus(doc.readNoiseElectrons, doc.bias?.readNoiseUncertaintyElectrons, 'e\u207b'),
+      value: plusMinus(doc.readNoiseElectrons, doc.bias?.readNoiseUncertaintyElectrons, ''),
+      unit: 'e\u207b',
       sub: isNum(readNoiseAduOf(doc)) ? `${num(readNoiseAduOf(doc), 3)} ADU, from bias pairs` : 'from bias pairs',
       data: doc.readNoiseElectrons,
     },
     {
       label: 'Full well',
-      value: (doc.fullWell && !doc.fullWell.reached ? '\u2265 ' : '') + electronsText(doc.fullWellElectrons),
+      value: (doc.fullWell && !doc.fullWell.reached ? '\u2265 ' : '') + num(doc.fullWellElectrons, 4),
+      unit: 'e\u207b',
       sub: doc.fullWellLimitedBy ? `limited by the ${doc.fullWellLimitedBy === 'adc' ? 'ADC range' : 'pixel'}` : doc.fullWell && !doc.fullWell.reached ? 'saturation not reached' : '',
       data: doc.fullWellElectrons,
     },
   ];
-  if (isNum(doc.offsetAdu)) cards.push({ label: 'Offset', value: withUnit(num(doc.offsetAdu, 5), 'ADU'), sub: 'bias median', data: doc.offsetAdu });
+  if (isNum(doc.offsetAdu)) cards.push({ label: 'Offset', value: num(doc.offsetAdu, 5), unit: 'ADU', sub: 'bias median', data: doc.offsetAdu });
   if (doc.darkCurrentElectronsPerSecond !== undefined) {
     const t = doc.dark?.referenceTemperatureCelsius;
     cards.push({
       label: 'Dark current',
-      value: withUnit(num(doc.darkCurrentElectronsPerSecond, 3), 'e\u207b/px/s'),
+      value: num(doc.darkCurrentElectronsPerSecond, 3),
+      unit: 'e\u207b/px/s',
       sub: isNum(t) ? `at ${fixed(t, 1)} °C` : '',
       data: doc.darkCurrentElectronsPerSecond ?? null,
     });
   }
-  if (isNum(doc.linearityErrorPercent)) cards.push({ label: 'Linearity error', value: withUnit(fixed(doc.linearityErrorPercent, 2), '%'), data: doc.linearityErrorPercent });
-  if (isNum(doc.prnuPercent)) cards.push({ label: 'PRNU', value: withUnit(fixed(doc.prnuPercent, 2), '%'), data: doc.prnuPercent });
-  if (isNum(doc.dsnuElectrons)) cards.push({ label: 'DSNU', value: withUnit(num(doc.dsnuElectrons, 3), 'e\u207b'), data: doc.dsnuElectrons });
+  if (isNum(doc.linearityErrorPercent)) cards.push({ label: 'Linearity error', value: fixed(doc.linearityErrorPercent, 2), unit: '%', data: doc.linearityErrorPercent });
+  if (isNum(doc.prnuPercent)) cards.push({ label: 'PRNU', value: fixed(doc.prnuPercent, 2), unit: '%', data: doc.prnuPercent });
+  if (isNum(doc.dsnuElectrons)) cards.push({ label: 'DSNU', value: num(doc.dsnuElectrons, 3), unit: 'e\u207b', data: doc.dsnuElectrons });
   if (isNum(doc.hotPixelCount)) {
     const f = doc.dark?.hotPixels?.fraction;
     cards.push({ label: 'Hot pixels', value: num(doc.hotPixelCount, 4), sub: isNum(f) ? `${fixed(100 * f, 3)} % of pixels` : '', data: doc.hotPixelCount });
   }
   if (isNum(doc.gainElectronsPerAdu) && isNum(doc.readNoiseElectrons) && isNum(doc.fullWellElectrons) && doc.readNoiseElectrons > 0) {
     const dr = doc.fullWellElectrons / doc.readNoiseElectrons;
-    cards.push({ label: 'Dynamic range', value: withUnit(fixed(20 * Math.log10(dr), 1), 'dB'), sub: `full well / read noise = ${num(dr, 3)}` });
+    cards.push({ label: 'Dynamic range', value: fixed(20 * Math.log10(dr), 1), unit: 'dB', sub: `full well / read noise = ${num(dr, 3)}` });
   }
   return cards;
 }

@@ -40,6 +40,8 @@ export function num(value: number | null | undefined, digits = 3): string {
   if (!Number.isFinite(value)) return value > 0 ? '\u221e' : '\u2212\u221e';
   if (value === 0) return '0';
   const a = Math.abs(value);
+  // Counts and whole-number settings read best without decimals (2000 ADU, 120 s, 7 hot pixels).
+  if (Number.isInteger(value) && a < 1e7) return minus(group(String(value)));
   if (a >= 1e7 || a < 1e-3) {
     const e = Math.floor(Math.log10(a));
     const m = value / 10 ** e;

@@ -37,6 +37,7 @@ nav.toc a:hover{text-decoration:underline}
 .card dt{font-size:.8rem;color:var(--muted);text-transform:uppercase;letter-spacing:.03em}
 .card dd{margin:2px 0 0;font-size:1.2rem;font-weight:650;font-variant-numeric:tabular-nums}
 .card .sub{font-size:.8rem;font-weight:400;display:block}
+.card .unit{font-size:.85rem;font-weight:500;color:var(--muted)}
 .figures{display:grid;grid-template-columns:repeat(auto-fit,minmax(460px,1fr));gap:18px 22px;margin:12px 0}
 figure{margin:0;min-width:0}
 .plot-wrap{overflow-x:auto}
@@ -64,9 +65,12 @@ ${colourRules}
 .table-wrap{overflow:auto;max-height:560px;border:1px solid var(--line);border-radius:6px;margin:10px 0}
 table{border-collapse:collapse;width:100%;font-size:.86rem;font-variant-numeric:tabular-nums}
 th,td{padding:5px 9px;text-align:left;border-bottom:1px solid var(--line);vertical-align:top}
+caption{text-align:left;padding:7px 9px;font-weight:600;color:var(--fg);font-size:.9rem}
+td.time{white-space:nowrap}
 thead th{position:sticky;top:0;background:var(--soft);font-weight:600;white-space:nowrap}
 td.n,th.n{text-align:right;white-space:nowrap}
-td.file{word-break:break-all;min-width:12em}
+td.file{word-break:break-all;min-width:11em}
+td.reasons{min-width:15em}
 tbody tr:nth-child(even){background:color-mix(in srgb,var(--soft) 55%,transparent)}
 .verdict{font-weight:650;white-space:nowrap}
 .verdict.keep{color:var(--keep)}.verdict.review{color:var(--review)}.verdict.reject{color:var(--reject)}
@@ -77,7 +81,7 @@ tbody tr:nth-child(even){background:color-mix(in srgb,var(--soft) 55%,transparen
 .thumbs{display:grid;grid-template-columns:repeat(auto-fill,minmax(220px,1fr));gap:14px;margin:12px 0}
 .thumbs svg{display:block;width:100%;height:auto;background:#000;border-radius:4px}
 .thumbs .trail{stroke:#E69F00;fill:none;stroke-linecap:round}
-.bgmap svg{display:block;width:100%;max-width:640px;height:auto}
+.bgmap svg{display:block;width:100%;max-width:480px;height:auto}
 .bgmap text{font-size:12px;fill:var(--muted)}
 ul.plain{margin:6px 0;padding-left:1.2em}
 details{margin:10px 0}

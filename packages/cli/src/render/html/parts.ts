@@ -5,6 +5,8 @@ import { attrs, esc } from './escape.js';
 export interface Card {
   label: string;
   value: string;
+  /** Unit, shown smaller after the value. */
+  unit?: string;
   sub?: string;
   /** A machine-readable copy of the value (data-value). */
   data?: number | string | null;
@@ -14,7 +16,7 @@ export function cardsHtml(cards: readonly Card[]): string {
   if (!cards.length) return '';
   const items = cards.map(
     (c) =>
-      `<div class="card"${attrs({ 'data-value': c.data ?? undefined })}><dt>${esc(c.label)}</dt><dd>${esc(c.value)}${
+      `<div class="card"${attrs({ 'data-value': c.data ?? undefined })}><dt>${esc(c.label)}</dt><dd>${esc(c.value)}${c.unit && c.value !== '\u2013' ? ` <span class="unit">${esc(c.unit)}</span>` : ''}${
         c.sub ? `<span class="sub">${esc(c.sub)}</span>` : ''
       }</dd></div>`,
   );
@@ -49,7 +51,7 @@ export function tableHtml(id: string, caption: string, columns: readonly TableCo
           .join('')}</tr>`,
     )
     .join('');
-  return `<div class="table-wrap"><table${attrs({ 'data-table': id })}><caption class="note">${esc(caption)}</caption><thead><tr>${head}</tr></thead><tbody>${body}</tbody></table></div>`;
+  return `<div class="table-wrap"><table${attrs({ 'data-table': id })}><caption>${esc(caption)}</caption><thead><tr>${head}</tr></thead><tbody>${body}</tbody></table></div>`;
 }
 
 /** A figure around an SVG plot: `data-plot` on the figure, an escaped caption with a bold lead. */

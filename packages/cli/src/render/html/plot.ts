@@ -85,6 +85,8 @@ export interface RuleSeries extends SeriesBase {
   dash?: boolean;
   /** Text written beside the line in the plot. */
   label?: string;
+  /** Where along the line the label sits: `end` (right end, or top for a vertical line; default) or `start`. */
+  labelAt?: 'start' | 'end';
 }
 
 export type Series = PointSeries | LineSeries | BandSeries | RuleSeries;
@@ -306,7 +308,7 @@ export function renderPlot(spec: PlotSpec): string {
   const height = spec.height ?? 340;
   const id = `plot-${slug(spec.id)}`;
   const items = legendItems(spec);
-  const margin = { left: 66, right: 18, top: 12, bottom: 46 };
+  const margin = { left: 66, right: 28, top: 12, bottom: 46 };
   const legendPos = layoutLegend(items, margin.left, width - margin.left - margin.right);
   const legendRows = items.length ? Math.max(...legendPos.map((p) => p.row)) + 1 : 0;
   margin.top += legendRows * LEGEND_ROW + (legendRows ? 6 : 0);
@@ -385,15 +387,18 @@ export function renderPlot(spec: PlotSpec): string {
   // Rule labels sit outside the clip so they stay readable at the edge.
   for (const s of spec.series) {
     if (s.kind !== 'rule' || !s.label) continue;
+    const atStart = s.labelAt === 'start';
     if (s.axis === 'y' && inY(s.value) && usable(s.value, yLog)) {
+      const x = atStart ? margin.left + 4 : margin.left + plotW - 4;
       parts.push(
-        `<text class="rule-label c-${s.color}" x="${margin.left + plotW - 4}" y="${r(ys(s.value) - 5)}" text-anchor="end">${esc(s.label)}</text>`,
+        `<text class="rule-label c-${s.color}" x="${x}" y="${r(ys(s.value) - 5)}" text-anchor="${atStart ? 'start' : 'end'}">${esc(s.label)}</text>`,
       );
     } else if (s.axis === 'x' && inX(s.value) && usable(s.value, xLog)) {
       const px = xs(s.value);
       const right = px > margin.left + plotW * 0.7;
+      const y = atStart ? margin.top + plotH - 22 : margin.top + 14;
       parts.push(
-        `<text class="rule-label c-${s.color}" x="${r(px + (right ? -5 : 5))}" y="${margin.top + 14}" text-anchor="${right ? 'end' : 'start'}">${esc(s.label)}</text>`,
+        `<text class="rule-label c-${s.color}" x="${r(px + (right ? -5 : 5))}" y="${y}" text-anchor="${right ? 'end' : 'start'}">${esc(s.label)}</text>`,
       );
     }
   }

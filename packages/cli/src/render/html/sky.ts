@@ -1,7 +1,7 @@
 /** The sky section: read-noise penalty and sub lengths of a `subgauge.sky/1` document. */
 import type { SkyDocument, SkySubDocument } from '../../schemas/results.js';
 import { esc } from './escape.js';
-import { codeWords, duration, fixed, num, utcTime, withUnit } from './format.js';
+import { codeWords, duration, fixed, num, utcTime } from './format.js';
 import { categoryStyle } from './palette.js';
 import { type Card, cardsHtml, figureHtml, sectionHtml, tableHtml } from './parts.js';
 import { type AxisSpec, type Series, renderPlot } from './plot.js';
@@ -183,7 +183,7 @@ function subTable(doc: SkyDocument): string {
     [
       { header: 'file', className: 'file' },
       { header: 'filter' },
-      { header: 'start (UTC)' },
+      { header: 'start (UTC)', className: 'time' },
       { header: 'exposure (s)', numeric: true },
       { header: 'sky (e⁻/px)', numeric: true },
       { header: 'sky rate (e⁻/px/s)', numeric: true },
@@ -200,12 +200,12 @@ function cards(doc: SkyDocument): Card[] {
   const limited = new Set(doc.subs.filter((s) => s.status !== 'sky-limited').map((s) => s.file));
   const out: Card[] = [
     { label: 'Subs', value: String(files.size), sub: `${files.size - limited.size} sky-limited`, data: files.size },
-    { label: 'Penalty limit', value: withUnit(fixed(doc.maxPenaltyPercent, 1), '%'), data: doc.maxPenaltyPercent },
+    { label: 'Penalty limit', value: fixed(doc.maxPenaltyPercent, 1), unit: '%', data: doc.maxPenaltyPercent },
   ];
   const c = doc.camera;
   if (c) {
-    if (isNum(c.readNoiseElectrons)) out.push({ label: 'Read noise used', value: withUnit(num(c.readNoiseElectrons, 3), 'e⁻'), sub: c.source ? `from ${codeWords(c.source)}` : '' });
-    if (isNum(c.gainElectronsPerAdu)) out.push({ label: 'Gain used', value: withUnit(num(c.gainElectronsPerAdu, 4), 'e⁻/ADU') });
+    if (isNum(c.readNoiseElectrons)) out.push({ label: 'Read noise used', value: num(c.readNoiseElectrons, 3), unit: 'e⁻', sub: c.source ? `from ${codeWords(c.source)}` : '' });
+    if (isNum(c.gainElectronsPerAdu)) out.push({ label: 'Gain used', value: num(c.gainElectronsPerAdu, 4), unit: 'e⁻/ADU' });
   }
   return out;
 }

@@ -52,8 +52,8 @@ export function blockMean(
         // NaN, BLANK-as-NaN and infinities are left out of the mean (v - v is NaN for all of them).
         if (v - v === 0) {
           const ox = (x / f) | 0;
-          sums[ox] += v;
-          counts[ox]++;
+          sums[ox] = (sums[ox] as number) + v;
+          counts[ox] = (counts[ox] as number) + 1;
         }
       }
     }
