@@ -87,9 +87,34 @@ function main() {
     const oursPeak = skip.has('memory') ? NaN : peakRssMiB(process.execPath, [path.join(here, 'ours.mjs'), file, '--reps', '1', '--warmup', '0', '--pipeline', 'p2']);
     results.push({ frame: f.name, file: f.file, fileMiB, ref, ours, refPeakMiB: refPeak, oursPeakMiB: oursPeak });
   }
+  const cam = only || skip.has('camera') ? undefined : cameraBench();
   const p6 = only || skip.has('p6') ? undefined : headerBench();
   const p5 = only || skip.has('p5') ? undefined : jobsBench();
-  report(results, p6, p5);
+  report(results, p6, p5, cam);
+}
+
+/** Camera: 1024 x 1024, 2 biases, 16 flats, 4 darks; `subgauge camera` against a numpy script doing the same pair computations. */
+function cameraBench() {
+  const dir = path.join(framesDir, 'camera1024');
+  if (!existsSync(path.join(dir, 'flat', 'flat_016.fits'))) {
+    mkdirSync(dir, { recursive: true });
+    run(process.execPath, [path.join(here, 'camera_set.mjs'), dir]);
+  }
+  const refMs = [];
+  const oursMs = [];
+  let refGain = NaN;
+  let ourGain = NaN;
+  for (let i = 0; i < 3; i++) {
+    const r = JSON.parse(run(python, [path.join(here, 'camera_ref.py'), dir]).stdout);
+    refMs.push(r.ms);
+    refGain = r.gain;
+    const t0 = performance.now();
+    const o = run(process.execPath, [path.join(root, 'packages/cli/dist/bin.js'), 'camera', dir, '--json']);
+    oursMs.push(performance.now() - t0);
+    ourGain = JSON.parse(o.stdout).gainElectronsPerAdu;
+  }
+  const med = (a) => [...a].sort((x, y) => x - y)[1];
+  return { refMs: med(refMs), oursMs: med(oursMs), refGain, ourGain };
 }
 
 /** P6: header-only inspection of 1000 files against an astropy getheader loop. */
@@ -140,7 +165,7 @@ function jobsBench() {
   return { frames: 20, jobs1Ms: one, jobs2Ms: two, speedup: one / two };
 }
 
-function report(results, p6, p5) {
+function report(results, p6, p5, cam) {
   const lines = [];
   const cpu = os.cpus()[0]?.model ?? 'unknown CPU';
   const refVersions = results[0]?.ref ? `numpy/astropy via ${python}` : '';
@@ -189,6 +214,9 @@ function report(results, p6, p5) {
   }
   if (results.some((r) => r.frame === '26MP-f32')) {
     lines.push('', 'Note: for the float32 frame the reference sigma-clipped values may be affected by float32 accumulation (DESIGN section 5); ours accumulate in float64.');
+  }
+  if (cam) {
+    lines.push('', `Camera (1024 x 1024: 2 biases, 16 flats, 4 darks; whole processes, imports and file reads included): numpy/astropy pair computations ${fmt(cam.refMs)} ms, \`subgauge camera --json\` ${fmt(cam.oursMs)} ms, ours / reference = ${(cam.oursMs / cam.refMs).toFixed(2)} (bar: at most 1.5); gains ${cam.refGain.toFixed(4)} / ${cam.ourGain.toFixed(4)} e-/ADU.`);
   }
   if (p6) {
     lines.push('', `P6 header-only reads of ${p6.files} files: astropy getheader loop ${fmt(p6.refMs)} ms (${fmt(p6.refWithImportMs)} ms with the astropy import); subgauge in-process ${fmt(p6.oursMs)} ms (${(p6.refMs / p6.oursMs).toFixed(1)}x); the whole \`subgauge inspect --header --json\` process ${fmt(p6.oursCliMs)} ms (${(p6.refWithImportMs / p6.oursCliMs).toFixed(1)}x against the loop with its import).`);
