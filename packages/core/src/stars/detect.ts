@@ -126,21 +126,34 @@ function thresholdFiltered(image: StarImage, background: LevelMap, noise: LevelM
   const sub = new Float64Array(w + 2 * r);
   const out = new Float64Array(w);
   let above = 0;
+  const bgMap = typeof background === 'number' ? null : background;
+  const bs = typeof background === 'number' ? background : 0;
+  const noiseMap = typeof noise === 'number' ? null : noise;
+  const tScalar = typeof noise === 'number' ? k * noiseFactor * noise : 0;
+  const kf = k * noiseFactor;
   const hfilter = (y: number): void => {
     const base = y * w;
-    for (let x = 0; x < w; x++) {
-      const v = px[base + x]! - (typeof background === 'number' ? background : background[base + x]!);
-      sub[x + r] = v === v ? v : 0;
+    if (bgMap === null) {
+      for (let x = 0; x < w; x++) {
+        const v = px[base + x]! - bs;
+        sub[x + r] = v === v ? v : 0;
+      }
+    } else {
+      for (let x = 0; x < w; x++) {
+        const v = px[base + x]! - bgMap[base + x]!;
+        sub[x + r] = v === v ? v : 0;
+      }
     }
     for (let i = 0; i < r; i++) {
       sub[i] = sub[r]!;
       sub[w + r + i] = sub[w + r - 1]!;
     }
     const dst = ring[y % K]!;
-    for (let x = 0; x < w; x++) {
-      let acc = 0;
-      for (let j = 0; j < K; j++) acc += kern[j]! * sub[x + j]!;
-      dst[x] = acc;
+    dst.fill(0);
+    // tap by tap over the whole row: simple loops the compiler keeps tight
+    for (let j = 0; j < K; j++) {
+      const wk = kern[j]!;
+      for (let x = 0; x < w; x++) dst[x]! += wk * sub[x + j]!;
     }
   };
   let done = -1; // last source row filtered
@@ -157,10 +170,9 @@ function thresholdFiltered(image: StarImage, background: LevelMap, noise: LevelM
     const base = yo * w;
     let x = 0;
     while (x < w) {
-      const t = k * noiseFactor * (typeof noise === 'number' ? noise : noise[base + x]!);
-      if (out[x]! > t) {
+      if (out[x]! > (noiseMap === null ? tScalar : kf * noiseMap[base + x]!)) {
         const x0 = x++;
-        while (x < w && out[x]! > k * noiseFactor * (typeof noise === 'number' ? noise : noise[base + x]!)) x++;
+        while (x < w && out[x]! > (noiseMap === null ? tScalar : kf * noiseMap[base + x]!)) x++;
         runs.push(yo, x0, x - 1);
         above += x - x0;
       } else x++;
@@ -383,6 +395,8 @@ export function detectStars(image: StarImage, options: DetectStarsOptions): Star
   if (!Number.isInteger(minPixels) || minPixels < 1 || !(maxPixels >= minPixels)) {
     throw new InvalidInputError('INPUT_BAD_PARAMETER', `need integer minPixels >= 1 and maxPixels >= minPixels (${minPixels}, ${maxPixels})`);
   }
+  const maxSources = options.maxSources ?? 50000;
+  if (!(maxSources >= 1)) throw new InvalidInputError('INPUT_BAD_PARAMETER', `maxSources must be >= 1, got ${maxSources}`);
   const saturationAdu = options.saturationAdu ?? defaultSaturationAdu(pixels);
   const gain = options.gainElectronsPerAdu;
   if (gain !== undefined && !(gain > 0)) throw new InvalidInputError('INPUT_BAD_PARAMETER', `gainElectronsPerAdu must be > 0, got ${gain}`);
@@ -425,9 +439,16 @@ export function detectStars(image: StarImage, options: DetectStarsOptions): Star
   let sorted = new Int32Array(1024);
   let sc = newSplitScratch(1024);
   let tooLargeCount = 0;
-  for (let c = 0; c < componentCount; c++) {
+  // components to measure; past maxSources only the largest (a cheap stand-in for the brightest) are kept
+  let chosen: number[] = [];
+  for (let c = 0; c < componentCount; c++) if (area[c]! >= minPixels) chosen.push(c);
+  const candidates = chosen.length;
+  if (chosen.length > maxSources) {
+    chosen.sort((a, b) => area[b]! - area[a]! || a - b);
+    chosen = chosen.slice(0, maxSources).sort((a, b) => a - b);
+  }
+  for (const c of chosen) {
     const n = area[c]!;
-    if (n < minPixels) continue;
     if (n > maxPixels) {
       tooLargeCount++;
       pending.push(measureRunsComponent(ctx, runs.y, runs.x0, runs.x1, head[c]!, next, n, { id: pending.length + 1, blended: false }));
@@ -477,6 +498,14 @@ export function detectStars(image: StarImage, options: DetectStarsOptions): Star
       code: 'STARS_MANY_PIXELS_ABOVE_THRESHOLD',
       severity: 'warning',
       message: `${((100 * above) / (width * height)).toFixed(1)} % of pixels are above the detection threshold; background or noise may be wrong`,
+      where: {},
+    });
+  }
+  if (candidates > chosen.length) {
+    diagnostics.push({
+      code: 'STARS_SOURCE_LIMIT',
+      severity: 'warning',
+      message: `${candidates} components passed the threshold; only the ${chosen.length} largest were measured (maxSources)`,
       where: {},
     });
   }

@@ -34,6 +34,11 @@ export interface DetectStarsOptions {
   /** Components with more pixels than this are flagged `tooLarge`; they are not split and get no shape fit. Default 10000. */
   maxPixels?: number;
   /**
+   * Most components measured (default 50000); past it only the largest are kept and a STARS_SOURCE_LIMIT
+   * warning is returned (bounds the time when the background or noise given is badly wrong).
+   */
+  maxSources?: number;
+  /**
    * Raw level (ADU) at or above which a pixel counts as saturated. Default: 0.95 x the type maximum for
    * Uint8Array/Uint16Array data (common practice, REFERENCE E.3), no saturation test for other types.
    */

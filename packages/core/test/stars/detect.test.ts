@@ -167,6 +167,26 @@ describe('detectStars: flags and splitting', () => {
     expect(detectStars({ pixels: make(6), width: 80, height: 80 }, { background: 0, noise: 5, deblend: false }).sources).toHaveLength(1);
   });
 
+  it('detectStars(maxSources 10) measures only the 10 largest components, in raster order, with a STARS_SOURCE_LIMIT warning', () => {
+    const f = newFrame(200, 200, 0);
+    const fluxes: number[] = [];
+    for (let k = 0; k < 30; k++) {
+      const flux = 2000 * (k + 1);
+      fluxes.push(flux);
+      addGaussian(f, 15 + (k % 6) * 33, 15 + Math.floor(k / 6) * 40, flux, 1.5);
+    }
+    const px = toFloat32(f);
+    const all = detectStars({ pixels: px, width: 200, height: 200 }, { background: 0, noise: 5 });
+    const few = detectStars({ pixels: px, width: 200, height: 200 }, { background: 0, noise: 5, maxSources: 10 });
+    expect(all.sources).toHaveLength(30);
+    expect(few.sources).toHaveLength(10);
+    const largest = [...all.sources].sort((a, b) => b.areaPixels - a.areaPixels).slice(0, 10);
+    expect(few.sources.map((s) => s.fluxAdu).sort((a, b) => a - b)).toEqual(largest.map((s) => s.fluxAdu).sort((a, b) => a - b));
+    expect(few.sources.map((s) => s.y)).toEqual([...few.sources.map((s) => s.y)].sort((a, b) => a - b));
+    expect(few.diagnostics.map((d) => d.code)).toContain('STARS_SOURCE_LIMIT');
+    expect(all.diagnostics.map((d) => d.code)).not.toContain('STARS_SOURCE_LIMIT');
+  });
+
   it('detectStars(bad inputs) throws InvalidInputError with stable codes', () => {
     const img = { pixels: new Float32Array(16), width: 4, height: 4 };
     expect(() => detectStars({ ...img, pixels: new Float32Array(15) }, { background: 0, noise: 1 })).toThrow(InvalidInputError);
