@@ -16,6 +16,10 @@ export type DiagnosticCode =
   | 'FITS_MISSING_EXTEND'
   | 'FITS_FREE_FORMAT_MANDATORY'
   | 'FITS_SKIPPED_HDU'
+  | 'STARS_MANY_PIXELS_ABOVE_THRESHOLD'
+  | 'STARS_TOO_LARGE_COMPONENTS'
+  | 'STARS_SOURCE_LIMIT'
+  | 'TRAILS_NOISY_MASK'
   | (string & {});
 
 export interface Diagnostic {
