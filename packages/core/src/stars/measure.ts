@@ -1,5 +1,6 @@
 // Per-source measurements on a footprint: isophotal centroid and moments, adaptive (Gaussian-weighted)
-// moments, FWHM from a log-quadratic radial profile fit, half-flux radius, SNR, local background.
+// moments, FWHM from a fitted Box-Cox-quadratic profile (Gaussian and Moffat exactly), half-flux radius,
+// SNR, local background.
 
 import type { LevelMap, NumericPixels, PixelBox, StarSource } from './types.js';
 import { shapeFromMoments } from './profiles.js';

@@ -120,8 +120,11 @@ export interface StarSource {
   fwhmMajorPixels: number | null;
   fwhmMinorPixels: number | null;
   /**
-   * Radius of the circle about the centroid that holds half of the background-subtracted flux found within
-   * 3 FWHM (min 4 px) of it; pixels are split 4x4 so the radius is sub-pixel (px). Null when not measured.
+   * Radius of the circle about the windowed centroid that holds half of the background-subtracted flux found
+   * within 3 FWHM of it (at least 4, at most 40 px). Each pixel's flux is spread evenly over its area (pixels
+   * within FWHM + 1.5 px of the centre are split 4x4 for that), so this is the half-flux radius of the pixelated
+   * star: for a Gaussian, sqrt(2 ln 2 (sigma^2 + 1/12)) rather than sqrt(2 ln 2) sigma (REFERENCE E.1; +2.5 %
+   * at FWHM 3 px). Wide Moffat wings outside the aperture lower it slightly. Null when not measured.
    */
   halfFluxRadiusPixels: number | null;
   /** fluxAdu / sqrt(areaPixels * noise^2 + fluxAdu / gain) (the Poisson term only when a gain is given). */
