@@ -55,13 +55,13 @@ function ptcSeries(m: Measurement, prefix: string): Series[] {
   const saturated = curve.filter((p) => !p.inFit && (p.saturated || p.excludedBecause === 'saturated'));
   const other = curve.filter((p) => !p.inFit && !(p.saturated || p.excludedBecause === 'saturated'));
   const series: Series[] = [
-    { kind: 'points', name: `${prefix}in fit (${inFit.length})`, color: 'blue', marker: 'circle', points: inFit.map(point) },
+    { kind: 'points', name: `${prefix}in fit (${inFit.length})`, color: 'blue', marker: 'circle', points: inFit.map(point), data: { role: 'in-fit' } },
   ];
   if (other.length) {
-    series.push({ kind: 'points', name: `left out (${other.length})`, color: 'orange', marker: 'square', hollow: true, points: other.map(point) });
+    series.push({ kind: 'points', name: `left out (${other.length})`, color: 'orange', marker: 'square', hollow: true, points: other.map(point), data: { role: 'left-out' } });
   }
   if (saturated.length) {
-    series.push({ kind: 'points', name: `saturated (${saturated.length})`, color: 'vermillion', marker: 'times', points: saturated.map(point) });
+    series.push({ kind: 'points', name: `saturated (${saturated.length})`, color: 'vermillion', marker: 'times', points: saturated.map(point), data: { role: 'saturated' } });
   }
   const range = signalRange(curve);
   const fitPts = range ? fitCurve(m, range[0], range[1]) : [];

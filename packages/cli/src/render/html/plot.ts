@@ -67,9 +67,9 @@ export interface PointSeries extends SeriesBase {
 export interface LineSeries extends SeriesBase {
   kind: 'line';
   dash?: boolean;
-  /** Draw markers at the vertices too. */
+  /** Draw markers at the vertices too (with each point's label and data). */
   marker?: MarkerShape;
-  points: readonly { x: number; y: number }[];
+  points: readonly { x: number; y: number; label?: string; data?: DataAttributes }[];
 }
 
 export interface BandSeries extends SeriesBase {
@@ -445,7 +445,9 @@ export function renderPlot(spec: PlotSpec): string {
         .y((p) => ys(p.y))(pts);
       extra['data-points'] = pts.map((p) => `${numberAttr(p.x)},${numberAttr(p.y)}`).join(';');
       body.push(`<path${attrs({ class: `line${s.dash ? ' dash' : ''}`, d: d ?? '' })}/>`);
-      if (s.marker) for (const p of pts) body.push(markerMark(s.marker, xs(p.x), ys(p.y), false, { x: numberAttr(p.x), y: numberAttr(p.y) }));
+      if (s.marker) {
+        for (const p of pts) body.push(markerMark(s.marker, xs(p.x), ys(p.y), false, { x: numberAttr(p.x), y: numberAttr(p.y), ...p.data }, p.label));
+      }
     } else if (s.kind === 'band') {
       const pts = s.points.filter((p) => usable(p.x, xLog) && usable(p.y0, yLog) && usable(p.y1, yLog));
       skipped = s.points.length - pts.length;
