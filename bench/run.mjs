@@ -76,7 +76,8 @@ function main() {
     run(python, [path.join(shared, 'bench-ref', 'ref_bench.py'), file, '--reps', String(reps), '--json', refJson], {
       stdio: ['ignore', 'inherit', 'inherit'],
     });
-    const ref = JSON.parse(readFileSync(refJson, 'utf8'));
+    // Python's json writes Infinity/NaN (e.g. MP/s of a step too fast to time): read them as null.
+    const ref = JSON.parse(readFileSync(refJson, 'utf8').replace(/:\s*-?(Infinity|NaN)\b/g, ': null'));
     const refPeak = skip.has('memory') ? NaN : peakRssMiB(python, [path.join(shared, 'bench-ref', 'ref_bench.py'), file, '--reps', '1', '--warmup', '0']);
     process.stderr.write(`== ${f.name}: subgauge ...\n`);
     const oursJson = path.join(outDir, `ours_${f.name}.json`);

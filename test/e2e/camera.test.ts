@@ -47,6 +47,26 @@ describe('subgauge camera on a simulated session', () => {
     expect(r.stderr).toMatch(/INPUT_TOO_FEW_FLAT_PAIRS/);
   });
 
+  it('camera refuses biases whose size differs from the flats (INPUT_SHAPE_MISMATCH)', async () => {
+    const dir = path.join(t.dir, 'mixed-sizes');
+    mkdirSync(dir, { recursive: true });
+    const bias = (seed: number) => {
+      const px = new Uint16Array(100 * 80);
+      let s = seed;
+      for (let i = 0; i < px.length; i++) {
+        s = (s * 1103515245 + 12345) >>> 0;
+        px[i] = 2000 + ((s >>> 16) % 40);
+      }
+      return encodeFits([{ pixels: px, width: 100, height: 80, cards: [{ keyword: 'IMAGETYP', value: 'Bias Frame' }, { keyword: 'EXPTIME', value: 0, real: true }] }]);
+    };
+    writeFileSync(path.join(dir, 'b1.fits'), bias(1));
+    writeFileSync(path.join(dir, 'b2.fits'), bias(2));
+    for (const f of ['flat/flat_001.fits', 'flat/flat_002.fits', 'flat/flat_003.fits', 'flat/flat_004.fits']) copyFileSync(path.join(session, f), path.join(dir, path.basename(f)));
+    const r = await runCli(['camera', dir]);
+    expect(r.code).toBe(1);
+    expect(r.stderr).toMatch(/INPUT_SHAPE_MISMATCH|INPUT_NO_BIAS_PAIR/);
+  });
+
   it('camera refuses normalised float data unless --scale is given', async () => {
     const dir = path.join(t.dir, 'floats');
     mkdirSync(dir, { recursive: true });

@@ -64,6 +64,16 @@ describe('subgauge sky on simulated lights', () => {
     expect(r.stderr).toContain('bad.json');
   });
 
+  it('sky with bias frames beside the lights uses the EGAIN header claim and warns that it is unverified', async () => {
+    const r = await runCli(['sky', path.join(session, 'light'), path.join(session, 'bias'), '--json']);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.stdout);
+    expect(doc.camera.source).toBe('header-claim');
+    expect(r.stderr).toMatch(/EGAIN header claim, not a measurement/);
+    // offset from the bias median: the simulator's offset (truth.json)
+    expect(doc.camera.offsetAdu).toBeCloseTo(truth.camera.offsetAdu, -1);
+  });
+
   it('sky --csv writes one row per sub', async () => {
     const csv = path.join(t.dir, 'sky.csv');
     const c = truth.camera;
