@@ -41,7 +41,7 @@ export function seriesOf(svg: string): SeriesData[] {
   for (const m of svg.matchAll(/<g (class="series[^>]*)>(.*?)<\/g>/g)) {
     const body = m[2]!;
     const points = [...body.matchAll(/<path [^>]*class="pt[^"]*"[^>]*>/g)].map((p) => attributesOf(p[0]));
-    const errors = [...body.matchAll(/<path [^>]*class="err"[^>]*>/g)].map((p) => attributesOf(p[0]));
+    const errors = [...body.matchAll(/<path [^>]*class="err[^"]*"[^>]*>/g)].map((p) => attributesOf(p[0]));
     out.push({ attrs: attributesOf(`<g ${m[1]!}>`), points, errors });
   }
   return out;

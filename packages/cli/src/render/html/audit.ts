@@ -77,7 +77,7 @@ function metricFigure(
     x: axis,
     y: { label: yLabel, includeZero: id === 'audit-stars' || id === 'audit-weight' },
     series,
-    height: 280,
+    height: 270,
   });
   return figureHtml(id, svg, lead, caption);
 }

@@ -70,7 +70,7 @@ function ptcSeries(m: Measurement, prefix: string): Series[] {
     const last = fitPts[fitPts.length - 1]!;
     series.push({
       kind: 'line',
-      name: `fit: σ² = a + S/g, g = ${num(m.fit.gainElectronsPerAdu, 4)} e\u207b/ADU`,
+      name: `fit, g = ${num(m.fit.gainElectronsPerAdu, 4)} e\u207b/ADU`,
       color: 'ink',
       points: fitPts,
       data: {

@@ -41,7 +41,7 @@ nav.toc a:hover{text-decoration:underline}
 .figures{display:grid;grid-template-columns:repeat(auto-fit,minmax(460px,1fr));gap:18px 22px;margin:12px 0}
 figure{margin:0;min-width:0}
 .plot-wrap{overflow-x:auto}
-svg.plot{display:block;width:100%;min-width:440px;height:auto}
+svg.plot{display:block;width:100%;min-width:400px;height:auto}
 figcaption{font-size:.86rem;margin-top:4px}
 figcaption strong{color:var(--fg)}
 svg.plot text{font-size:12px;fill:var(--muted)}
@@ -59,6 +59,7 @@ svg.plot .line{fill:none;stroke:currentColor;stroke-width:2}
 svg.plot .rule{fill:none;stroke:currentColor;stroke-width:1.5}
 svg.plot .dash{stroke-dasharray:6 4}
 svg.plot .band{fill:currentColor;opacity:.18;stroke:none}
+svg.plot .outside{display:none}
 ${colourRules}
 .c-ink{color:var(--fg)}.c-grey{color:var(--muted)}
 @media (prefers-color-scheme:dark){.c-black{color:var(--fg)}.c-blue{color:#3d9be0}}
@@ -88,7 +89,8 @@ details{margin:10px 0}
 summary{cursor:pointer;font-weight:600}
 footer{margin-top:48px;padding-top:10px;border-top:1px solid var(--line);font-size:.82rem;color:var(--muted)}
 @media (max-width:600px){body{font-size:14px}main{padding:14px 12px 32px}h1{font-size:1.4rem}
-.figures{grid-template-columns:1fr}.cards{grid-template-columns:repeat(2,minmax(0,1fr))}.card dd{font-size:1.05rem}}
+.figures{grid-template-columns:1fr}.cards{grid-template-columns:repeat(2,minmax(0,1fr))}.card dd{font-size:1.05rem}
+svg.plot{min-width:0}svg.plot text,svg.plot .axis-label{font-size:15px}svg.plot .legend text,svg.plot .rule-label{font-size:13px}}
 @media print{:root{--bg:#fff;--fg:#000;--muted:#333;--line:#bbb;--soft:#f4f4f4;--grid:#e6e6e6;color-scheme:light}
 body{font-size:10.5pt}main{max-width:none;padding:0}nav.toc{display:none}
 .c-black{color:#000}.c-blue{color:#0072B2}

@@ -123,7 +123,8 @@ const SYMBOLS: Record<MarkerShape, SymbolType> = {
 /** Symbols drawn as strokes (no area to fill). */
 const STROKE_MARKERS = new Set<MarkerShape>(['times']);
 const MARKER_AREA = 44;
-const CHAR_WIDTH = 6.4;
+// Legend layout assumes ~7 user units per character (12-13 px sans-serif text, generous).
+const CHAR_WIDTH = 7;
 const LEGEND_ROW = 18;
 
 /** SVG path of a marker centred on (0, 0). */
@@ -274,8 +275,8 @@ function swatch(s: Series): string {
   return `<path class="rule${s.dash !== false ? ' dash' : ''}" d="M0,0H18"/>`;
 }
 
-function markerMark(shape: MarkerShape, px: number, py: number, hollow: boolean, data: DataAttributes, title?: string): string {
-  const cls = STROKE_MARKERS.has(shape) ? 'pt stroke' : hollow ? 'pt hollow' : 'pt';
+function markerMark(shape: MarkerShape, px: number, py: number, hollow: boolean, data: DataAttributes, title?: string, outside = false): string {
+  const cls = (STROKE_MARKERS.has(shape) ? 'pt stroke' : hollow ? 'pt hollow' : 'pt') + (outside ? ' outside' : '');
   const a = attrs({
     class: cls,
     d: markerPath(shape),
@@ -304,11 +305,11 @@ function r(v: number): string {
  * @returns SVG markup with `role="img"`, `<title>`, `<desc>` and `data-plot="<id>"`
  */
 export function renderPlot(spec: PlotSpec): string {
-  const width = spec.width ?? 640;
-  const height = spec.height ?? 340;
+  const width = spec.width ?? 540;
+  const height = spec.height ?? 320;
   const id = `plot-${slug(spec.id)}`;
   const items = legendItems(spec);
-  const margin = { left: 66, right: 28, top: 12, bottom: 46 };
+  const margin = { left: 72, right: 28, top: 12, bottom: 46 };
   const legendPos = layoutLegend(items, margin.left, width - margin.left - margin.right);
   const legendRows = items.length ? Math.max(...legendPos.map((p) => p.row)) + 1 : 0;
   margin.top += legendRows * LEGEND_ROW + (legendRows ? 6 : 0);
@@ -427,15 +428,17 @@ export function renderPlot(spec: PlotSpec): string {
         }
         const px = xs(p.x);
         const py = ys(p.y);
+        // Points beyond a fixed domain stay in the markup (with their data) but are not drawn (CSS `.outside`).
+        const outside = !inX(p.x) || !inY(p.y);
         if (p.yError !== undefined) {
           const [lo, hi] = typeof p.yError === 'number' ? [p.y - p.yError, p.y + p.yError] : p.yError;
           const a = ys(usable(lo, yLog) ? lo : yd0);
           const b = ys(usable(hi, yLog) ? hi : yd1);
           body.push(
-            `<path${attrs({ class: 'err', d: `M${r(px)},${r(a)}V${r(b)}M${r(px - 3)},${r(a)}h6M${r(px - 3)},${r(b)}h6`, 'data-x': p.x, 'data-low': lo, 'data-high': hi })}/>`,
+            `<path${attrs({ class: outside ? 'err outside' : 'err', d: `M${r(px)},${r(a)}V${r(b)}M${r(px - 3)},${r(a)}h6M${r(px - 3)},${r(b)}h6`, 'data-x': p.x, 'data-low': lo, 'data-high': hi })}/>`,
           );
         }
-        body.push(markerMark(s.marker, px, py, s.hollow ?? false, { x: numberAttr(p.x), y: numberAttr(p.y), ...p.data }, p.label));
+        body.push(markerMark(s.marker, px, py, s.hollow ?? false, { x: numberAttr(p.x), y: numberAttr(p.y), ...p.data }, p.label, outside));
       }
     } else if (s.kind === 'line') {
       const pts = s.points.filter((p) => usable(p.x, xLog) && usable(p.y, yLog));
