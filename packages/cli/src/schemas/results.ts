@@ -119,7 +119,7 @@ export const cameraDocumentSchema = z.looseObject({
   frames: z
     .looseObject({
       used: z.array(z.looseObject({ file: z.string() })).nullish(),
-      leftOut: z.array(z.looseObject({ file: z.string(), reason: optStr })).nullish(),
+      leftOut: z.array(z.looseObject({ file: z.string(), reason: optStr, detail: optStr })).nullish(),
     })
     .nullish(),
   diagnostics: z.array(diagnostic).nullish(),

@@ -444,7 +444,7 @@ function leftOutNotes(doc: CameraDocument): string {
   const left = doc.frames?.leftOut ?? [];
   const diags = doc.diagnostics ?? [];
   const notes = [
-    ...left.map((f) => `${f.file}: left out (${codeWords(f.reason ?? 'no reason given')})`),
+    ...left.map((f) => `${f.file}: left out (${codeWords(f.reason ?? 'no reason given')}${typeof f.detail === 'string' && f.detail ? `: ${f.detail}` : ''})`),
     ...diags.map((d) => `${d.code}: ${d.message ?? ''}`),
   ];
   if (!notes.length) return '';

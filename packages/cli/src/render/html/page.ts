@@ -83,7 +83,7 @@ tbody tr:nth-child(even){background:color-mix(in srgb,var(--soft) 55%,transparen
 .thumbs svg{display:block;width:100%;height:auto;background:#000;border-radius:4px}
 .thumbs .trail{stroke:#E69F00;fill:none;stroke-linecap:round}
 .bgmap svg{display:block;width:100%;max-width:480px;height:auto}
-.bgmap text{font-size:12px;fill:var(--muted)}
+.bgmap text{font-size:17px;fill:var(--muted)}
 ul.plain{margin:6px 0;padding-left:1.2em}
 details{margin:10px 0}
 summary{cursor:pointer;font-weight:600}

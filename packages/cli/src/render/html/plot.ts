@@ -189,11 +189,10 @@ function domainOf(spec: PlotSpec, axis: 'x' | 'y'): [number, number] {
     const d = a.scale === 'time' ? 60_000 : Math.abs(lo) * 0.1 || 1;
     return [lo - d, hi + d];
   }
-  if (a.scale === 'time') {
-    const pad = (hi - lo) * 0.03;
-    return [lo - pad, hi + pad];
-  }
-  return [lo, hi];
+  const pad = (hi - lo) * (a.scale === 'time' ? 0.03 : 0.05);
+  if (a.scale === 'time') return [lo - pad, hi + pad];
+  // A little room so markers do not sit on the frame; zero stays the edge when it was asked for.
+  return [a.includeZero && lo === 0 ? 0 : lo - pad, a.includeZero && hi === 0 ? 0 : hi + pad];
 }
 
 function makeScale(a: AxisSpec, domain: [number, number], range: [number, number]): Scale {
