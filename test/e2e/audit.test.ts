@@ -61,6 +61,16 @@ describe('subgauge audit outputs and failures', () => {
     expect(r.stdout).toMatch(/effective frames \(Kish\)/);
   });
 
+  it('audit --html writes a self-contained report with the frames table and thumbnails', async () => {
+    const html = path.join(t.dir, 'audit.html');
+    const r = await runCli(['audit', path.join(session, 'light'), '--html', html, '--jobs', '1', '--quiet']);
+    expect(r.code).toBe(0);
+    const text = readFileSync(html, 'utf8');
+    expect(text).toContain('id="section-audit"');
+    expect(text).toMatch(/Content-Security-Policy/);
+    expect(text).toMatch(/data:image\/png;base64,/);
+  });
+
   it('audit --fail-on reject exits 1 when a frame is rejected', async () => {
     const r = await runCli(['audit', path.join(session, 'light'), '--fail-on', 'reject', '--jobs', '1', '--quiet']);
     expect(r.code).toBe(1);

@@ -12,7 +12,12 @@ describe('subgauge demo', () => {
     expect(r.stdout).toContain(`Everything is in ${t.dir}`);
     expect(r.stdout).toMatch(/gain e-\/ADU\s+[\d.]+\s+[\d.]+\s+[+-][\d.]+ %/);
     expect(r.stdout).toMatch(/(\d+) of \1 injected defects caught/);
-    for (const f of ['camera.json', 'sky.json', 'audit.json', 'camera-profile.json', 'session/truth.json']) expect(existsSync(path.join(t.dir, f)), f).toBe(true);
+    for (const f of ['camera.json', 'sky.json', 'audit.json', 'camera-profile.json', 'session/truth.json', 'report.html']) expect(existsSync(path.join(t.dir, f)), f).toBe(true);
+    expect(r.stdout).toContain(path.join(t.dir, 'report.html'));
+    const html = readFileSync(path.join(t.dir, 'report.html'), 'utf8');
+    for (const id of ['section-camera', 'section-sky', 'section-audit']) expect(html).toContain(`id="${id}"`);
+    // thumbnails of the rejected/review frames are embedded as data URIs
+    expect(html).toMatch(/data:image\/png;base64,/);
     const camera = JSON.parse(readFileSync(path.join(t.dir, 'camera.json'), 'utf8'));
     const truth = JSON.parse(readFileSync(path.join(t.dir, 'session/truth.json'), 'utf8'));
     // the demo's own numbers are the measured ones: gain within 1.5 % of the simulator's truth

@@ -7,6 +7,7 @@ import { demoCommand } from './commands/demo.js';
 import { cameraCommand } from './commands/camera.js';
 import { skyCommand } from './commands/sky.js';
 import { auditCommand } from './commands/audit.js';
+import { reportCommand } from './commands/report.js';
 
 /** A command body: does its work and returns the exit code. */
 export type Run = () => Promise<number>;
@@ -21,7 +22,7 @@ export function buildProgram(io: CliIo, setRun: (run: Run) => void): Command {
     .showHelpAfterError('(run with --help for usage)')
     .configureOutput({ writeOut: io.stdout, writeErr: io.stderr })
     .exitOverride();
-  for (const make of [inspectCommand, cameraCommand, skyCommand, auditCommand, simulateCommand, demoCommand]) {
+  for (const make of [inspectCommand, cameraCommand, skyCommand, auditCommand, reportCommand, simulateCommand, demoCommand]) {
     program.addCommand(
       make(io, setRun)
         .exitOverride()

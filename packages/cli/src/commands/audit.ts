@@ -23,7 +23,9 @@ import { parsePositiveInt } from '../options.js';
 import { Progress } from '../render/progress.js';
 import { auditCsv, renderAuditText } from '../render/audit.js';
 import type { FrameTask, Thumbnail } from '../workers/frameTask.js';
-import { type CommonOptions, emitJson, outputOptions, readOptions } from './common.js';
+import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
+import { writeHtmlReport } from './report.js';
+import { thumbnailPng, type ReportBackgroundMap, type ReportThumbnail } from '../render/html/index.js';
 
 export interface AuditCliOptions extends CommonOptions {
   limits?: string;
@@ -35,6 +37,24 @@ export interface AuditRun {
   result: AuditResult;
   /** Downsampled frames of review and reject verdicts (for the report), by file. */
   thumbnails: Map<string, Thumbnail>;
+  /** The background mesh of the frame with the steepest gradient (for the report's map). */
+  backgroundMap: ReportBackgroundMap | undefined;
+}
+
+/** Thumbnails (PNG, faint-sky stretch) of the review and reject frames and the background map, for the HTML report. */
+export function auditReportExtras(run: AuditRun): { thumbnails: ReportThumbnail[]; backgroundMap?: ReportBackgroundMap } {
+  const thumbnails: ReportThumbnail[] = [];
+  for (const f of run.result.frames) {
+    const t = run.thumbnails.get(f.file);
+    if (!t || f.verdict === 'keep') continue;
+    const m = f.metrics;
+    thumbnails.push({
+      file: f.file,
+      png: thumbnailPng(t.values, t.width, t.height, { maxSize: 256 }),
+      ...(m ? { frameWidth: m.width, frameHeight: m.height } : {}),
+    });
+  }
+  return { thumbnails, ...(run.backgroundMap ? { backgroundMap: run.backgroundMap } : {}) };
 }
 
 async function readLimits(file: string | undefined): Promise<AuditLimits | undefined> {
@@ -88,6 +108,8 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
   progress.stop();
   const measured = new Map<string, FrameMetrics | UnreadableFrame>();
   const thumbnails = new Map<string, Thumbnail>();
+  let backgroundMap: ReportBackgroundMap | undefined;
+  let steepest = -Infinity;
   for (const u of unreadable) measured.set(u.file, u);
   for (const r of results) {
     if (!r.ok) {
@@ -97,6 +119,11 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
     if (r.metrics) {
       measured.set(r.file, r.metrics);
       if (r.thumbnail) thumbnails.set(r.file, r.thumbnail);
+      const g = r.metrics.gradientPercent ?? -Infinity;
+      if (r.mesh && g > steepest) {
+        steepest = g;
+        backgroundMap = { file: r.file, columns: r.mesh.columns, rows: r.mesh.rows, levelAdu: r.mesh.levelAdu, width: r.metrics.width, height: r.metrics.height };
+      }
     } else if (r.medianAdu !== undefined) {
       const c = calibration.find((x) => x.file === r.file);
       if (c) c.medianAdu = r.medianAdu;
@@ -106,7 +133,7 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
   const lights = [...measured.values()].sort((a, b) => (lightOrder.get(a.file) ?? 1e9) - (lightOrder.get(b.file) ?? 1e9));
   const result = auditSession({ lights, calibration, ...(limits ? { limits } : {}) });
   for (const f of result.frames) if (f.verdict === 'keep') thumbnails.delete(f.file);
-  return { result, thumbnails };
+  return { result, thumbnails, backgroundMap };
 }
 
 export function auditCommand(io: CliIo, setRun: (run: Run) => void): Command {
@@ -119,7 +146,7 @@ export function auditCommand(io: CliIo, setRun: (run: Run) => void): Command {
     .option('--limits <file.json>', 'thresholds to change (a partial limits object; see the JSON output `limits` for names)')
     .addOption(new Option('--fail-on <verdict>', 'exit 1 when any frame gets this verdict or worse').choices(['review', 'reject']))
     .option('--csv <file>', 'also write one row per frame as CSV');
-  for (const o of [...outputOptions(), ...readOptions()]) cmd.addOption(o);
+  for (const o of [...outputOptions(), htmlOption(), ...readOptions()]) cmd.addOption(o);
   cmd
     .addOption(new Option('--jobs <n>', 'worker threads (default: number of cores)').argParser(parsePositiveInt))
     .option('--no-progress', 'no progress bar on stderr')
@@ -136,7 +163,12 @@ Examples:
   );
   cmd.action((paths: string[], opts: AuditCliOptions) => {
     setRun(async () => {
-      const { result } = await runAudit(paths, opts, io);
+      const run = await runAudit(paths, { ...opts, thumbnails: Boolean(opts.html) }, io);
+      const { result } = run;
+      if (opts.html) {
+        const written = await writeHtmlReport(opts.html, [result], { title: 'Session audit', generatedAt: new Date().toISOString(), ...auditReportExtras(run) });
+        if (!opts.quiet) io.stderr(`report: ${written}\n`);
+      }
       if (opts.csv) await writeFileAtomic(opts.csv, new TextEncoder().encode(auditCsv(result)));
       if (!(await emitJson(io, opts, result))) io.stdout(renderAuditText(result, io));
       const unreadable = result.frames.some((f) => f.reasons.includes('unreadable'));

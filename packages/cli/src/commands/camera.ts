@@ -15,7 +15,8 @@ import { parsePositiveNumber, parseRegion, type RegionOption } from '../options.
 import { toJson } from '../render/json.js';
 import { Progress } from '../render/progress.js';
 import { renderCameraSummary, renderFailures } from '../render/camera.js';
-import { type CommonOptions, emitJson, outputOptions, readOptions } from './common.js';
+import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
+import { writeHtmlReport } from './report.js';
 
 interface CameraCliOptions extends CommonOptions {
   kind: string[];
@@ -83,7 +84,7 @@ export function cameraCommand(io: CliIo, setRun: (run: Run) => void): Command {
     .addOption(new Option('--adc-max <adu>', 'the ADC maximum in file ADU (default: detected)').argParser(parsePositiveNumber))
     .addOption(new Option('--scale <adu-per-unit>', 'file units to ADU, for scaled or normalised data (else such data are refused)').argParser(parsePositiveNumber))
     .option('--save <profile.json>', 'write the camera profile that `sky` and `audit` read');
-  for (const o of [...outputOptions(), ...readOptions()]) cmd.addOption(o);
+  for (const o of [...outputOptions(), htmlOption(), ...readOptions()]) cmd.addOption(o);
   cmd.option('--no-progress', 'no progress bar on stderr').option('--quiet', 'print only results and errors');
   cmd.addHelpText(
     'after',
@@ -105,6 +106,10 @@ Examples:
         await writeFileAtomic(opts.save, new TextEncoder().encode(toJson(cameraProfileFromResult(result))));
       }
       const doc = { ...result, unreadable: failures };
+      if (opts.html) {
+        const written = await writeHtmlReport(opts.html, [result], { title: 'Camera characterization', generatedAt: new Date().toISOString() });
+        if (!opts.quiet) io.stderr(`report: ${written}\n`);
+      }
       if (!(await emitJson(io, opts, doc))) {
         io.stdout(renderCameraSummary(result, io));
         if (failures.length) io.stdout(renderFailures(failures, io));

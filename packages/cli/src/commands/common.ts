@@ -27,6 +27,11 @@ export function outputOptions(): Option[] {
   ];
 }
 
+/** `--html <file>`: a self-contained HTML report of the result (camera, sky, audit). */
+export function htmlOption(): Option {
+  return new Option('--html <file>', 'also write a self-contained HTML report with plots (opens offline in any browser)');
+}
+
 export function readOptions(): Option[] {
   return [
     new Option('--strict', 'treat FITS standard violations as errors instead of warnings'),

@@ -26,7 +26,8 @@ import { Progress } from '../render/progress.js';
 import { renderFailures } from '../render/camera.js';
 import { renderSkyText, skyCsv } from '../render/sky.js';
 import { writeFileAtomic } from '@subgauge/core/node';
-import { type CommonOptions, emitJson, outputOptions, readOptions } from './common.js';
+import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
+import { writeHtmlReport } from './report.js';
 
 export interface SkyCliOptions extends CommonOptions {
   camera?: string;
@@ -181,7 +182,7 @@ export function skyCommand(io: CliIo, setRun: (run: Run) => void): Command {
         .default('darker-half'),
     )
     .option('--csv <file>', 'also write one row per sub (and channel) as CSV');
-  for (const o of [...outputOptions(), ...readOptions()]) cmd.addOption(o);
+  for (const o of [...outputOptions(), htmlOption(), ...readOptions()]) cmd.addOption(o);
   cmd.option('--no-progress', 'no progress bar on stderr').option('--quiet', 'print only results and errors');
   cmd.addHelpText(
     'after',
@@ -206,6 +207,10 @@ Examples:
         throw err;
       }
       if (opts.csv) await writeFileAtomic(opts.csv, new TextEncoder().encode(skyCsv(doc.subs)));
+      if (opts.html) {
+        const written = await writeHtmlReport(opts.html, [doc], { title: 'Sky-limited check', generatedAt: new Date().toISOString() });
+        if (!opts.quiet) io.stderr(`report: ${written}\n`);
+      }
       if (!(await emitJson(io, opts, doc))) {
         io.stdout(renderSkyText(doc, io));
         if (doc.unreadable.length) io.stdout(renderFailures(doc.unreadable, io));
