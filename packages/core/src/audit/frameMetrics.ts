@@ -24,6 +24,8 @@ export interface LightFrameOptions {
   skipTrails?: boolean;
   /** Stars whose fluxes give `starSignalAdu` (the brightest unsaturated ones; default 20). */
   signalStars?: number;
+  /** Reused for the full-resolution background map when at least width × height long (saves an allocation per frame in loops). */
+  backgroundBuffer?: Float32Array;
 }
 
 /** The metrics plus the intermediate products a report may draw (background mesh, stars, trails). */
@@ -69,7 +71,9 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
   // The detector reads plane 0 as a contiguous row-major store (a view of the same buffer, never a copy).
   const pixels = image.pixels.subarray(0, width * height) as NumericPixels;
   const starImage = { pixels, width, height };
-  const background = renderMeshMap(mesh, 'level', new Float32Array(width * height));
+  const n = width * height;
+  const buffer = opts.backgroundBuffer && opts.backgroundBuffer.length >= n ? opts.backgroundBuffer.subarray(0, n) : new Float32Array(n);
+  const background = renderMeshMap(mesh, 'level', buffer) as Float32Array;
   const noise = mesh.medianNoiseAdu > 0 ? mesh.medianNoiseAdu : 1;
   const stars = detectStars(starImage, {
     background,
