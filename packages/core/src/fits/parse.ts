@@ -1,4 +1,4 @@
-import { InvalidInputError } from '../errors.js';
+import { FitsFormatError, InvalidInputError } from '../errors.js';
 import { onesComplementAdd, onesComplementSum } from './checksum.js';
 import { DEFAULT_MAX_PIXELS } from './constants.js';
 import { decodePixels } from './decode.js';
@@ -97,6 +97,15 @@ export function checkPadding(bytes: Uint8Array, layout: HduLayout, sink: Diagnos
 }
 
 /**
+ * An extension whose header breaks the mandatory rules ends the walk with a warning, so the HDUs before it (usually
+ * the primary image) stay usable in folder runs; strict mode, and any fault of the primary HDU, still throw.
+ */
+export function tolerateBrokenExtension(err: unknown, hdu: number, sink: DiagnosticSink, byte: number): void {
+  if (hdu === 0 || sink.strict || !(err instanceof FitsFormatError)) throw err;
+  sink.warn('FITS_BAD_EXTENSION', `HDU ${hdu} cannot be read (${err.code}: ${err.message}); it and any later HDUs are left out`, { hdu, byte });
+}
+
+/**
  * Walk the HDUs of a whole file held in memory (headers only; no pixel decoding).
  * @throws FitsFormatError for a file that is not FITS or whose headers break the mandatory rules.
  */
@@ -109,9 +118,15 @@ export function listHdus(bytes: Uint8Array, sink: DiagnosticSink): ListedHdu[] {
       reportTrailing(bytes, offset, hdu, sink);
       break;
     }
-    const read = readHduHeader(bytes, offset, hdu, sink);
-    if (read === undefined) {
-      throw sink.error('FITS_NO_END', `HDU ${hdu}: no END card before the end of the file`, { hdu, byte: offset });
+    let read: ReturnType<typeof readHduHeader>;
+    try {
+      read = readHduHeader(bytes, offset, hdu, sink);
+      if (read === undefined) {
+        throw sink.error('FITS_NO_END', `HDU ${hdu}: no END card before the end of the file`, { hdu, byte: offset });
+      }
+    } catch (err) {
+      tolerateBrokenExtension(err, hdu, sink, offset);
+      break;
     }
     const { header, layout } = read;
     const dataEnd = layout.dataOffset + layout.dataBytes;

@@ -20,6 +20,7 @@ import {
   imageShape,
   parseFits,
   readHduHeader,
+  tolerateBrokenExtension,
   reportTrailing,
 } from '../fits/parse.js';
 import type { ListedHdu } from '../fits/parse.js';
@@ -219,9 +220,15 @@ function walkHeaders(
     while (findHeaderEnd(bytes, Math.max(0, bytes.length - BLOCK_BYTES)) === undefined && offset + bytes.length < size) {
       bytes = concat(bytes, readAt(fd, offset + bytes.length, Math.min(BLOCK_BYTES, size - offset - bytes.length), counter));
     }
-    const read = readHduHeader(bytes, 0, hdu, sink, offset);
-    if (read === undefined) {
-      throw sink.error('FITS_NO_END', `HDU ${hdu}: no END card before the end of the file`, { hdu, byte: offset });
+    let read: ReturnType<typeof readHduHeader>;
+    try {
+      read = readHduHeader(bytes, 0, hdu, sink, offset);
+      if (read === undefined) {
+        throw sink.error('FITS_NO_END', `HDU ${hdu}: no END card before the end of the file`, { hdu, byte: offset });
+      }
+    } catch (err) {
+      tolerateBrokenExtension(err, hdu, sink, offset);
+      break;
     }
     const item: ListedHdu = { header: read.header, layout: read.layout, truncated: false };
     listed.push(item);
@@ -267,7 +274,15 @@ async function walkGzipHeaders(path: string, sink: DiagnosticSink, stopAfter: nu
         }
         const end = findHeaderEnd(header, 0);
         if (end === undefined) continue;
-        const read = readHduHeader(header, 0, hdu, sink, headerStart);
+        let read: ReturnType<typeof readHduHeader>;
+        try {
+          read = readHduHeader(header, 0, hdu, sink, headerStart);
+        } catch (err) {
+          tolerateBrokenExtension(err, hdu, sink, headerStart);
+          done = true;
+          header = new Uint8Array(0);
+          break;
+        }
         if (read === undefined) continue;
         listed.push({ header: read.header, layout: read.layout, truncated: false });
         const rest = header.subarray(end.headerBytes);
