@@ -1,3 +1,4 @@
+import { readFitsDate } from '../fits/dates.js';
 import type { Header } from '../fits/types.js';
 
 /** Frame kinds (DESIGN section 2 vocabulary). */
@@ -104,17 +105,13 @@ function settingOf(header: Header, keyword: string): number | string | undefined
 }
 
 /**
- * Parse an ISO-8601 DATE-OBS (`YYYY-MM-DD` or `YYYY-MM-DDThh:mm:ss[.sss]`, UTC; FITS 3.0 §4.4.2.1) to epoch ms.
- * Returns undefined for other forms (the old `DD/MM/YY` form gives no time of day).
+ * DATE-OBS as epoch milliseconds for time ordering: ISO-8601 dates only (FITS 3.0 §4.4.2.1, read by
+ * `readFitsDate`); the old `DD/MM/YY` form gives no time of day and returns undefined.
  */
 export function parseFitsDate(text: string | undefined): number | undefined {
   if (!text) return undefined;
-  const m = /^(\d{4})-(\d{2})-(\d{2})(?:T(\d{2}):(\d{2}):(\d{2}(?:\.\d*)?))?Z?$/.exec(text.trim());
-  if (!m) return undefined;
-  const [, y, mo, d, h = '0', mi = '0', s = '0'] = m;
-  const sec = Number(s);
-  const ms = Date.UTC(Number(y), Number(mo) - 1, Number(d), Number(h), Number(mi), Math.floor(sec));
-  return Number.isFinite(ms) ? ms + (sec - Math.floor(sec)) * 1000 : undefined;
+  const d = readFitsDate(text);
+  return d && !d.legacy ? d.unixMs : undefined;
 }
 
 /** Read the observation values of one HDU's header. */
