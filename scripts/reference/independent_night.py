@@ -255,7 +255,7 @@ def main() -> int:
         fits.PrimaryHDU(data=data, header=hdr).writeto(os.path.join(args.out, f"bias/bias_{k + 1:03d}.fits"), overwrite=True)
 
     # Extra sky frames, each list checked on its own by the sky test:
-    #   crowded/  a 40 % gradient at a random angle and ten times the stars, faint ones included (dN/dm ~ 10^(0.3 m)
+    #   crowded/  a 40 % gradient at a random angle and 10-15 times the stars, faint ones included (dN/dm ~ 10^(0.3 m)
     #             over 10 mag), on 384 x 256 px: a whole number of 64 px boxes, so a box grid is symmetric about
     #             the centre and only the stars can pull a box-median sky away from the truth;
     #   edge/     no stars, a 40 % gradient along +x, then along +y, on the full frame (partial boxes at its edges);
@@ -277,7 +277,7 @@ def main() -> int:
                                 darkRateElectronsPerSecond=CAMERA["dark_rate"], width=data.shape[1], height=data.shape[0], **fields))
 
     for k in range(2):
-        cw, ch, n = 384, 256, 1500
+        cw, ch, n = 384, 256, 1500 + 750 * k  # stars in proportion to the sky, so they add a like share
         mm = np.log10(1 + rng.random(n) * (10 ** (0.3 * 10) - 1)) / 0.3
         flux = 2.5e5 * 10 ** (-0.4 * mm)
         sky_rate = SKY_RATE * (1.0 + 0.5 * k)

@@ -130,8 +130,8 @@ describe('subgauge sky on nights from the independent numpy/astropy generator', 
         const label = `seed ${seed} ${f.file}: measured ${rec?.skyRateElectronsPerSecond}, true ${backgroundRate(f)}, star light ${f.starRateElectronsPerSecond}`;
         const error = relative(rec!.skyRateElectronsPerSecond, backgroundRate(f));
         expect(error, label).toBeLessThan(0.02);
-        // and far less than what the stars would add to a mean
-        expect(error, label).toBeLessThan(0.25 * (f.starRateElectronsPerSecond! / f.skyRateElectronsPerSecond));
+        // and less than half of what the stars would add to a mean
+        expect(error, label).toBeLessThan(0.5 * (f.starRateElectronsPerSecond! / f.skyRateElectronsPerSecond));
         checked++;
       }
     }
