@@ -10,3 +10,4 @@ export * from './camera/index.js';
 export * from './sky/index.js';
 export * from './stars/index.js';
 export * from './audit/index.js';
+export { meshLevelGrid } from './stats/mesh.js';

@@ -42,18 +42,13 @@ function blockMean(pixels: ArrayLike<number>, width: number, height: number, siz
   return { width: w, height: h, values };
 }
 
-// One background-map buffer per thread, reused across its frames (frames of a session share one size).
-let backgroundBuffer: Float32Array | undefined;
-
 export async function runFrameTask(task: FrameTask): Promise<FrameTaskResult> {
   try {
     const frame = await loadFrame(task.file, { maxPixels: task.maxPixels, ...(task.strict ? { strict: true } : {}), ...(task.hdu !== undefined ? { hdu: task.hdu } : {}) });
     if (task.kind === 'calibration-median') {
       return { ok: true, file: task.file, medianAdu: median(frameView(frame.image), { blankValue: frame.image.blankValue }) };
     }
-    const n = frame.image.width * frame.image.height;
-    if (!backgroundBuffer || backgroundBuffer.length < n) backgroundBuffer = new Float32Array(n);
-    const m = measureLightFrame(task.file, frame.image, frame.header, { ...task.options, backgroundBuffer });
+    const m = measureLightFrame(task.file, frame.image, frame.header, task.options);
     const out: FrameTaskResult = { ok: true, file: task.file, metrics: m.metrics };
     if (task.thumbnailSize && !(frame.image.pixels instanceof BigInt64Array || frame.image.pixels instanceof BigUint64Array)) {
       out.thumbnail = blockMean(frame.image.pixels as ArrayLike<number>, frame.image.width, frame.image.height, task.thumbnailSize);

@@ -1,7 +1,7 @@
 import type { Header, ImageData } from '../fits/types.js';
 import { observationOf } from '../frame/observation.js';
 import { frameView } from '../image/view.js';
-import { backgroundMesh, renderMeshMap, type BackgroundMesh } from '../stats/mesh.js';
+import { backgroundMesh, meshLevelGrid, type BackgroundMesh } from '../stats/mesh.js';
 import { detectStars } from '../stars/detect.js';
 import { summarizeStars } from '../stars/summary.js';
 import { detectTrails } from '../stars/trails.js';
@@ -24,7 +24,11 @@ export interface LightFrameOptions {
   skipTrails?: boolean;
   /** Stars whose fluxes give `starSignalAdu` (the brightest unsaturated ones; default 20). */
   signalStars?: number;
-  /** Reused for the full-resolution background map when at least width × height long (saves an allocation per frame in loops). */
+  /**
+   * No longer used: the background is read from the mesh grid row by row (see `meshLevelGrid`), so no
+   * full-resolution map is written. Kept so existing callers still compile.
+   * @deprecated
+   */
   backgroundBuffer?: Float32Array;
 }
 
@@ -71,9 +75,9 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
   // The detector reads plane 0 as a contiguous row-major store (a view of the same buffer, never a copy).
   const pixels = image.pixels.subarray(0, width * height) as NumericPixels;
   const starImage = { pixels, width, height };
-  const n = width * height;
-  const buffer = opts.backgroundBuffer && opts.backgroundBuffer.length >= n ? opts.backgroundBuffer.subarray(0, n) : new Float32Array(n);
-  const background = renderMeshMap(mesh, 'level', buffer) as Float32Array;
+  // The mesh level interpolated on the fly, equal to its Float32Array map (renderMeshMap) without writing and
+  // re-reading width x height values: memory traffic limits how well worker threads scale.
+  const background = meshLevelGrid(mesh, 'level');
   const noise = mesh.medianNoiseAdu > 0 ? mesh.medianNoiseAdu : 1;
   const stars = detectStars(starImage, {
     background,

@@ -7,10 +7,11 @@ import { InvalidInputError } from '../errors.js';
 import { RunList, labelRuns } from './label.js';
 import { PROFILE_LAMBDAS, createMeasureContext, finishProfile, measureFootprint, measureRunsComponent, profileChiSquaresOf } from './measure.js';
 import type { MeasureContext, PendingSource } from './measure.js';
-import type { DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage } from './types.js';
+import { backgroundAt, isLevelGrid, levelGridRow } from './levels.js';
+import type { BackgroundLevels, DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage } from './types.js';
 
 /** Check a frame and its background/noise maps; throws InvalidInputError. */
-export function checkStarImage(image: StarImage, background: LevelMap, noise: LevelMap): void {
+export function checkStarImage(image: StarImage, background: BackgroundLevels, noise: LevelMap): void {
   const { pixels, width, height } = image;
   if (!Number.isInteger(width) || !Number.isInteger(height) || width < 1 || height < 1) {
     throw new InvalidInputError('INPUT_BAD_PARAMETER', `bad frame size ${width}x${height}`);
@@ -24,6 +25,10 @@ export function checkStarImage(image: StarImage, background: LevelMap, noise: Le
   }
   if (typeof background === 'number') {
     if (!Number.isFinite(background)) throw new InvalidInputError('INPUT_BAD_PARAMETER', 'background must be finite');
+  } else if (isLevelGrid(background)) {
+    if (background.width !== width || background.height !== height) {
+      throw new InvalidInputError('INPUT_SHAPE_MISMATCH', `background grid is for ${background.width}x${background.height}, frame is ${width}x${height}`);
+    }
   } else if (background.length !== n) {
     throw new InvalidInputError('INPUT_SHAPE_MISMATCH', `background map has ${background.length} elements, expected ${n}`);
   }
@@ -42,7 +47,7 @@ export function defaultSaturationAdu(pixels: NumericPixels): number {
 }
 
 /** Runs of pixels with pixels[i] > background + k * noise. Returns the count of pixels above. */
-function thresholdRaw(image: StarImage, background: LevelMap, noise: LevelMap, k: number, runs: RunList): number {
+function thresholdRaw(image: StarImage, background: BackgroundLevels, noise: LevelMap, k: number, runs: RunList): number {
   const { pixels: px, width: w, height: h } = image;
   let above = 0;
   // one loop per kind of level so the hot loop carries no type tests
@@ -60,34 +65,42 @@ function thresholdRaw(image: StarImage, background: LevelMap, noise: LevelMap, k
         } else x++;
       }
     }
-  } else if (typeof noise === 'number') {
-    const bg = background as Float32Array | Float64Array;
+  } else if (typeof noise === 'number' && typeof background !== 'number') {
+    // a grid is read through one reused row (its values are those a Float32Array map would hold)
+    const grid = isLevelGrid(background) ? background : null;
+    const rowLevels = new Float32Array(grid === null ? 0 : w);
+    const columnScratch = new Float64Array(grid === null ? 0 : grid.columns);
     const kn = k * noise;
     for (let y = 0; y < h; y++) {
       const base = y * w;
+      const bg = grid === null ? (background as Float32Array | Float64Array) : levelGridRow(grid, y, rowLevels, columnScratch);
+      const bo = grid === null ? base : 0;
       let x = 0;
       while (x < w) {
-        const i = base + x;
-        if (px[i]! > bg[i]! + kn) {
+        if (px[base + x]! > bg[bo + x]! + kn) {
           const x0 = x++;
-          while (x < w && px[base + x]! > bg[base + x]! + kn) x++;
+          while (x < w && px[base + x]! > bg[bo + x]! + kn) x++;
           runs.push(y, x0, x - 1);
           above += x - x0;
         } else x++;
       }
     }
   } else {
-    const nm = noise;
-    const bgMap = typeof background === 'number' ? null : background;
+    const nm = noise as Float32Array | Float64Array;
+    const grid = typeof background !== 'number' && isLevelGrid(background) ? background : null;
+    const bgMap = typeof background === 'number' ? null : grid === null ? (background as Float32Array | Float64Array) : new Float32Array(w);
+    const columnScratch = new Float64Array(grid === null ? 0 : grid.columns);
     const bs = typeof background === 'number' ? background : 0;
     for (let y = 0; y < h; y++) {
       const base = y * w;
+      if (grid !== null) levelGridRow(grid, y, bgMap as Float32Array, columnScratch);
+      const bo = grid === null ? base : 0;
       let x = 0;
       while (x < w) {
         const i = base + x;
-        if (px[i]! > (bgMap === null ? bs : bgMap[i]!) + k * nm[i]!) {
+        if (px[i]! > (bgMap === null ? bs : bgMap[bo + x]!) + k * nm[i]!) {
           const x0 = x++;
-          while (x < w && px[base + x]! > (bgMap === null ? bs : bgMap[base + x]!) + k * nm[base + x]!) x++;
+          while (x < w && px[base + x]! > (bgMap === null ? bs : bgMap[bo + x]!) + k * nm[base + x]!) x++;
           runs.push(y, x0, x - 1);
           above += x - x0;
         } else x++;
@@ -113,7 +126,7 @@ function gaussianKernel(fwhm: number): Float64Array {
  * repeated), exceeds k * noise * sqrt(sum w^2) — the noise of the filtered image for white noise. Streams the
  * frame through a ring of 2r + 1 horizontally filtered rows, so memory stays at a few rows.
  */
-function thresholdFiltered(image: StarImage, background: LevelMap, noise: LevelMap, k: number, fwhm: number, runs: RunList): number {
+function thresholdFiltered(image: StarImage, background: BackgroundLevels, noise: LevelMap, k: number, fwhm: number, runs: RunList): number {
   const { pixels: px, width: w, height: h } = image;
   const kern = gaussianKernel(fwhm);
   const r = (kern.length - 1) / 2;
@@ -126,7 +139,9 @@ function thresholdFiltered(image: StarImage, background: LevelMap, noise: LevelM
   const sub = new Float64Array(w + 2 * r);
   const out = new Float64Array(w);
   let above = 0;
-  const bgMap = typeof background === 'number' ? null : background;
+  const grid = typeof background !== 'number' && isLevelGrid(background) ? background : null;
+  const bgMap = typeof background === 'number' ? null : grid === null ? (background as Float32Array | Float64Array) : new Float32Array(w);
+  const columnScratch = new Float64Array(grid === null ? 0 : grid.columns);
   const bs = typeof background === 'number' ? background : 0;
   const noiseMap = typeof noise === 'number' ? null : noise;
   const tScalar = typeof noise === 'number' ? k * noiseFactor * noise : 0;
@@ -139,8 +154,10 @@ function thresholdFiltered(image: StarImage, background: LevelMap, noise: LevelM
         sub[x + r] = v === v ? v : 0;
       }
     } else {
+      if (grid !== null) levelGridRow(grid, y, bgMap as Float32Array, columnScratch);
+      const bo = grid === null ? base : 0;
       for (let x = 0; x < w; x++) {
-        const v = px[base + x]! - bgMap[base + x]!;
+        const v = px[base + x]! - bgMap[bo + x]!;
         sub[x + r] = v === v ? v : 0;
       }
     }
@@ -240,7 +257,7 @@ function splitComponent(
     const x = i % width;
     const y = (i - x) / width;
     grid[(y - by0) * gw + (x - bx0)] = k;
-    const v = pixels[i]! - (typeof background === 'number' ? background : background[i]!);
+    const v = pixels[i]! - backgroundAt(background, i);
     vals[k] = v === v ? v : -Infinity;
     order[k] = k;
     regionOf[k] = -1;

@@ -2,6 +2,8 @@
 export type {
   NumericPixels,
   LevelMap,
+  LevelGrid,
+  BackgroundLevels,
   StarImage,
   DetectStarsOptions,
   PixelBox,
@@ -14,6 +16,7 @@ export type {
   TrailDetection,
 } from './types.js';
 export { labelComponents } from './label.js';
+export { levelGridRow, levelGridAt } from './levels.js';
 export type { LabelResult } from './label.js';
 export {
   GAUSSIAN_FWHM_PER_SIGMA,

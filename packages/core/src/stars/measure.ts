@@ -2,7 +2,8 @@
 // moments, FWHM from a fitted Box-Cox-quadratic profile (Gaussian and Moffat exactly), half-flux radius,
 // SNR, local background.
 
-import type { LevelMap, NumericPixels, PixelBox, StarSource } from './types.js';
+import type { BackgroundLevels, LevelMap, NumericPixels, PixelBox, StarSource } from './types.js';
+import { backgroundAt } from './levels.js';
 import { shapeFromMoments } from './profiles.js';
 import { clippedMedian } from './select.js';
 
@@ -11,7 +12,7 @@ export interface MeasureContext {
   pixels: NumericPixels;
   width: number;
   height: number;
-  background: LevelMap;
+  background: BackgroundLevels;
   noise: LevelMap;
   saturationAdu: number;
   gainElectronsPerAdu: number | undefined;
@@ -23,7 +24,7 @@ export function createMeasureContext(
   pixels: NumericPixels,
   width: number,
   height: number,
-  background: LevelMap,
+  background: BackgroundLevels,
   noise: LevelMap,
   saturationAdu: number,
   gainElectronsPerAdu: number | undefined,
@@ -83,7 +84,7 @@ function isophotalFromIndices(ctx: MeasureContext, idx: Int32Array, start: numbe
     const y = (i - x) / width;
     const raw = pixels[i]!;
     if (raw >= saturationAdu) saturated = true;
-    const f = raw - levelAt(background, i);
+    const f = raw - backgroundAt(background, i);
     if (x < xMin) xMin = x;
     if (x > xMax) xMax = x;
     if (y < yMin) yMin = y;
@@ -181,7 +182,7 @@ function isophotalFromRuns(
     for (let x = x0; x <= x1; x++, i++) {
       const raw = pixels[i]!;
       if (raw >= saturationAdu) saturated = true;
-      const f = raw - levelAt(background, i);
+      const f = raw - backgroundAt(background, i);
       if (!(f === f)) continue;
       flux += f;
       if (f > peak) {
@@ -251,7 +252,7 @@ function adaptiveMoments(ctx: MeasureContext, x0: number, y0: number, wxx0: numb
         const dx = x - cx;
         const q = ixx * dx * dx + 2 * ixy * dx * dy + iyy * dy * dy;
         if (q > 16) continue; // beyond 4 sigma the weight is < 3.4e-4
-        const f = pixels[i]! - levelAt(background, i);
+        const f = pixels[i]! - backgroundAt(background, i);
         if (!(f === f)) continue;
         const wf = Math.exp(-0.5 * q) * f;
         s += wf;
@@ -588,7 +589,7 @@ function gatherFitPoints(ctx: MeasureContext, cx: number, cy: number, nxx: numbe
     for (let x = xa; x <= xb; x++, i++) {
       const dx = x - cx;
       if (nxx * dx * dx + 2 * nxy * dx * dy + nyy * dy * dy > uLimit) continue;
-      const f = (pixels[i]! - levelAt(background, i)) / scale;
+      const f = (pixels[i]! - backgroundAt(background, i)) / scale;
       if (!(f === f)) continue;
       const o = P * n;
       pts[o] = dx;
@@ -688,7 +689,7 @@ function halfFluxRadius(ctx: MeasureContext, cx: number, cy: number, rAperture: 
       const dx = x - cx;
       const rc2 = dx * dx + dy * dy;
       if (rc2 > (rAperture + 0.75) * (rAperture + 0.75)) continue;
-      const f = pixels[i]! - levelAt(background, i);
+      const f = pixels[i]! - backgroundAt(background, i);
       if (!(f === f)) continue;
       if (rc2 > r2f) {
         if (rc2 <= r2a) {

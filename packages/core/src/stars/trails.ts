@@ -7,7 +7,8 @@ import { InvalidInputError } from '../errors.js';
 import { checkStarImage } from './detect.js';
 import { labelComponents } from './label.js';
 import { medianAndMadSigma } from './select.js';
-import type { DetectTrailsOptions, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
+import { backgroundAt, isLevelGrid, levelGridRow } from './levels.js';
+import type { BackgroundLevels, DetectTrailsOptions, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
 
 /** Masked regions: disks about sources, plus boxes for saturated ones (bleeds), looked up through a coarse grid. */
 interface MaskSet {
@@ -113,7 +114,7 @@ function isMasked(m: MaskSet, x: number, y: number): boolean {
  * Block means of background-subtracted, unmasked pixels (NaN for blocks with fewer than half their pixels
  * usable). Rows are read in bands of `bin` rows; a band's mask is painted from the mask set first.
  */
-function binnedMeans(image: StarImage, background: LevelMap, masks: MaskSet, bin: number): { means: Float32Array; bw: number; bh: number } {
+function binnedMeans(image: StarImage, background: BackgroundLevels, masks: MaskSet, bin: number): { means: Float32Array; bw: number; bh: number } {
   const { pixels: px, width: w, height: h } = image;
   const bw = Math.ceil(w / bin);
   const bh = Math.ceil(h / bin);
@@ -121,6 +122,11 @@ function binnedMeans(image: StarImage, background: LevelMap, masks: MaskSet, bin
   const sum = new Float64Array(bw);
   const cnt = new Int32Array(bw);
   const bandMask = new Uint8Array(bin * w);
+  // a grid is read through one reused row (its values are those a Float32Array map would hold)
+  const grid = typeof background !== 'number' && isLevelGrid(background) ? background : null;
+  const bgMap = typeof background === 'number' ? null : grid === null ? (background as Float32Array | Float64Array) : new Float32Array(w);
+  const columnScratch = new Float64Array(grid === null ? 0 : grid.columns);
+  const bs = typeof background === 'number' ? background : 0;
   // sources by band: each mask lands in the bands its extent touches
   const bands: number[][] = Array.from({ length: bh }, () => []);
   for (let k = 0; k < masks.count; k++) {
@@ -161,11 +167,11 @@ function binnedMeans(image: StarImage, background: LevelMap, masks: MaskSet, bin
     }
     sum.fill(0);
     cnt.fill(0);
-    const bgMap = typeof background === 'number' ? null : background;
-    const bs = typeof background === 'number' ? background : 0;
     for (let ry = 0; ry < rows; ry++) {
       const base = (y0 + ry) * w;
       const mbase = ry * w;
+      if (grid !== null) levelGridRow(grid, y0 + ry, bgMap as Float32Array, columnScratch);
+      const bo = grid === null ? base : 0;
       for (let bx = 0; bx < bw; bx++) {
         const xa = bx * bin;
         const xe = Math.min(w, xa + bin);
@@ -183,7 +189,7 @@ function binnedMeans(image: StarImage, background: LevelMap, masks: MaskSet, bin
         } else {
           for (let x = xa; x < xe; x++) {
             if (bandMask[mbase + x]) continue;
-            const f = px[base + x]! - bgMap[base + x]!;
+            const f = px[base + x]! - bgMap[bo + x]!;
             if (f === f) {
               s += f;
               c++;
@@ -330,7 +336,7 @@ const WING_IN = 8; // side strips: HALF_SPAN >= |s| >= WING_IN
  */
 function verifyLine(
   image: StarImage,
-  background: LevelMap,
+  background: BackgroundLevels,
   noise: LevelMap,
   masks: MaskSet,
   line: Line,
@@ -349,7 +355,7 @@ function verifyLine(
     if (x < 0 || y < 0 || x >= w || y >= h) return NaN;
     if (isMasked(masks, x, y)) return NaN;
     const i = y * w + x;
-    return px[i]! - (typeof background === 'number' ? background : background[i]!);
+    return px[i]! - backgroundAt(background, i);
   };
   const range = clipLine(l, w, h);
   if (range === null || range[1] - range[0] < minLength) return null;
@@ -418,7 +424,7 @@ function verifyLine(
         const y = Math.round(l.py + t * l.uy + s * ny);
         if (x < 0 || y < 0 || x >= w || y >= h || isMasked(masks, x, y)) continue;
         const i = y * w + x;
-        const f = px[i]! - (typeof background === 'number' ? background : background[i]!);
+        const f = px[i]! - backgroundAt(background, i);
         if (!(f === f)) continue;
         if (as <= hw) {
           coreSum[k]! += f;

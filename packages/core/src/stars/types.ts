@@ -7,6 +7,36 @@ export type NumericPixels = Exclude<Pixels, BigInt64Array | BigUint64Array>;
 /** A background or noise level: one value for the whole frame, or a full-resolution map (row-major, width x height). */
 export type LevelMap = number | Float32Array | Float64Array;
 
+/**
+ * A background level held on a grid of box centres and interpolated bilinearly between them, exactly as
+ * `renderMeshMap` (stats/mesh.ts) writes it into a Float32Array: each value is rounded to float32. The star
+ * kernels compute it row by row (or per pixel) instead of reading a full-resolution map, which saves writing
+ * and reading width x height values per frame. Build one with `meshLevelGrid`.
+ */
+export interface LevelGrid {
+  kind: 'level-grid';
+  width: number;
+  height: number;
+  /** Grid size (boxes across and down). */
+  columns: number;
+  rows: number;
+  /** Grid values, row-major (rows x columns). */
+  values: Float64Array;
+  /** Per pixel column x: the grid columns either side and the weight of the right one. */
+  colLeft: Int32Array;
+  colRight: Int32Array;
+  colWeight: Float64Array;
+  /** Runs of pixel columns sharing both grid columns, as (first x, left, right) triples; the last run ends at width. */
+  colSpans: Int32Array;
+  /** Per pixel row y: the grid rows either side and the weight of the lower one. */
+  rowTop: Int32Array;
+  rowBottom: Int32Array;
+  rowWeight: Float64Array;
+}
+
+/** A background level as the star kernels accept it: a {@link LevelMap} or a {@link LevelGrid}. */
+export type BackgroundLevels = LevelMap | LevelGrid;
+
 /** A frame as the star kernels see it: contiguous row-major pixels, pixel (x, y) at `pixels[y * width + x]`. */
 export interface StarImage {
   pixels: NumericPixels;
@@ -16,8 +46,8 @@ export interface StarImage {
 
 /** Options of {@link detectStars}. Defaults are given per field. */
 export interface DetectStarsOptions {
-  /** Background level in ADU (a number or a full-resolution map). Required. */
-  background: LevelMap;
+  /** Background level in ADU (a number, a full-resolution map or a grid interpolated on the fly). Required. */
+  background: BackgroundLevels;
   /** Background noise (one-sigma, ADU per pixel; a number or a full-resolution map). Required, > 0. */
   noise: LevelMap;
   /**
@@ -198,7 +228,7 @@ export interface StarFieldSummary {
 
 /** Options of {@link detectTrails}. */
 export interface DetectTrailsOptions {
-  background: LevelMap;
+  background: BackgroundLevels;
   noise: LevelMap;
   /** Sources to mask (usually `detectStars(...).sources`). Elongated unsaturated ones are left unmasked: they may be trail pieces. */
   sources?: readonly StarSource[];

@@ -10,6 +10,7 @@ import type { SigmaClipParameters } from './sigmaClip.js';
 import { medianInPlace } from './select.js';
 import { clipWeighted, sortAndCount, weightedMedian } from './weighted.js';
 import type { backgroundMode } from './mode.js';
+import type { LevelGrid } from '../stars/types.js';
 
 /** Box layout along one axis: start, size and centre of every box. */
 interface Axis {
@@ -673,4 +674,51 @@ export function renderMeshMap(
     }
   }
   return map;
+}
+
+/**
+ * The smoothed level (or noise) as a {@link LevelGrid} for the star kernels: the same bilinear interpolation
+ * between box centres as {@link renderMeshMap} into a Float32Array, evaluated per row or pixel when read, so no
+ * full-resolution map is written (width + height index entries instead of width x height values).
+ * @param which 'level' (default) or 'noise'
+ */
+export function meshLevelGrid(mesh: BackgroundMesh, which: 'level' | 'noise' = 'level'): LevelGrid {
+  const { width, height, columns, rows } = mesh;
+  const colLeft = new Int32Array(width);
+  const colRight = new Int32Array(width);
+  const colWeight = new Float64Array(width);
+  for (let x = 0; x < width; x++) {
+    const [j, t] = cellOf(mesh.centresX, mesh.boxWidth, x);
+    colLeft[x] = j;
+    colRight[x] = Math.min(j + 1, columns - 1);
+    colWeight[x] = t;
+  }
+  const spans: number[] = [];
+  for (let x = 0; x < width; x++) {
+    if (x === 0 || colLeft[x] !== colLeft[x - 1]) spans.push(x, colLeft[x] as number, colRight[x] as number);
+  }
+  const rowTop = new Int32Array(height);
+  const rowBottom = new Int32Array(height);
+  const rowWeight = new Float64Array(height);
+  for (let y = 0; y < height; y++) {
+    const [i, t] = cellOf(mesh.centresY, mesh.boxHeight, y);
+    rowTop[y] = i;
+    rowBottom[y] = Math.min(i + 1, rows - 1);
+    rowWeight[y] = t;
+  }
+  return {
+    kind: 'level-grid',
+    width,
+    height,
+    columns,
+    rows,
+    values: which === 'noise' ? mesh.noiseAdu : mesh.levelAdu,
+    colLeft,
+    colRight,
+    colWeight,
+    colSpans: Int32Array.from(spans),
+    rowTop,
+    rowBottom,
+    rowWeight,
+  };
 }
