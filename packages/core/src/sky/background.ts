@@ -3,7 +3,7 @@ import { cfaPattern, cfaPlanes } from '../image/cfa.js';
 import { frameView, type FrameView } from '../image/view.js';
 import { backgroundMesh, type BackgroundMesh } from '../stats/mesh.js';
 
-/** Star-free sky level of one view: the median of the clipped box levels of the mesh (REFERENCE C.5). */
+/** Star-free sky level of one view from the mesh of clipped box levels (REFERENCE C.5). */
 export interface SkyLevel {
   backgroundAdu: number;
   /** Standard error of the level: 1.2533 · spread of box levels / √boxes (spread = MAD-sigma of valid box levels). */
@@ -41,8 +41,14 @@ function levelOf(mesh: BackgroundMesh): SkyLevel {
   const mad = n ? (n % 2 ? dev[(n - 1) / 2]! : (dev[n / 2 - 1]! + dev[n / 2]!) / 2) : NaN;
   // standard error of a median ≈ √(π/2)·σ/√n for Gaussian spread (REFERENCE D.4 constant 1.2533)
   const se = n > 1 ? (1.2533141373155 * 1.482602218505602 * mad) / Math.sqrt(n) : NaN;
+  // The level is the least-squares plane through the box levels, taken at the frame centre: with a gradient that is
+  // the frame's mean sky (a median over boxes leans towards the side with the partial edge boxes), and averaging
+  // many boxes resolves skies of a few ADU below one code, where each box median of integer data is a whole code
+  // (REFERENCE C.6). Fewer than 3 boxes: the median box level.
+  const plane = mesh.gradient;
+  const level = plane.boxCount >= 3 && Number.isFinite(plane.centreLevelAdu) ? plane.centreLevelAdu : mesh.medianLevelAdu;
   return {
-    backgroundAdu: mesh.medianLevelAdu,
+    backgroundAdu: level,
     backgroundUncertaintyAdu: se,
     noiseAdu: mesh.medianNoiseAdu,
     gradientPercent: mesh.gradient.percent,
@@ -72,6 +78,7 @@ export function skyBackground(image: ImageData, header: Header, opts: SkyBackgro
   const saturationAdu = opts.saturationAdu ?? defaultSaturation(image);
   const meshOpts = {
     boxSize: opts.boxSize ?? 64,
+    level: 'mean' as const,
     blankValue: image.blankValue,
     ...(saturationAdu !== undefined ? { saturationAdu } : {}),
     ...(opts.offsetAdu !== undefined ? { offsetAdu: opts.offsetAdu } : {}),
