@@ -135,10 +135,9 @@ describe('subgauge audit on folders of real FITS files', () => {
 });
 
 describe('subgauge audit on a file astropy writes with a 1-D primary image and a 2-D extension', () => {
-  // Finding F8 in /tmp/independent-findings.md: the audit's header scan (io/load.ts loadFrameHeader) takes the
-  // first HDU with 2 or more axes, the worker's loadFrame the first HDU with any pixels, so the 1-D primary is
-  // measured (50 x 1, no EXPTIME) instead of the 160 x 120 image. Expected to pass once both pick the same HDU.
-  it.fails('audit --json measures the 2-D extension (160 x 120, EXPTIME 60)', async (ctx) => {
+  // Was finding F8: the header scan and the pixel loader picked different HDUs (the 1-D primary was measured).
+  // Both now take the first 2-D image (packages/cli/src/io/load.ts).
+  it('audit --json measures the 2-D extension (160 x 120, EXPTIME 60)', async (ctx) => {
     if (!requireOutside('python3 with numpy and astropy', () => pythonWithAstropy() !== undefined, ctx)) return;
     const t = tempDir('subgauge-real-1d-');
     try {

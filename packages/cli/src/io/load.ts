@@ -28,7 +28,15 @@ export function failureOf(file: string, err: unknown): LoadFailure {
   throw err;
 }
 
-/** The image HDU to measure: the one asked for, else the first image HDU with pixels. */
+/** NAXIS >= 2 with no empty axis: a frame (or a cube of frames) rather than a 1-D spectrum. */
+function isTwoDimensional(axes: readonly number[]): boolean {
+  return axes.length >= 2 && axes.every((n) => n > 0);
+}
+
+/**
+ * The image HDU to measure: the one asked for, else the first 2-D image with pixels (1-D spectra and rows are not
+ * frames). `loadFrameHeader` applies the same rule, so headers and pixels always come from the same HDU.
+ */
 export async function loadFrame(file: string, opts: LoadOptions): Promise<LoadedFrame> {
   const fits = await readFitsFile(file, {
     strict: Boolean(opts.strict),
@@ -37,11 +45,14 @@ export async function loadFrame(file: string, opts: LoadOptions): Promise<Loaded
     verifyChecksums: false,
     ...(opts.hdu !== undefined ? { hdu: opts.hdu } : {}),
   });
-  const hdu = fits.hdus.find((h) => (opts.hdu === undefined ? h.image !== undefined : h.layout.index === opts.hdu));
+  const hdu =
+    opts.hdu !== undefined
+      ? fits.hdus.find((h) => h.layout.index === opts.hdu)
+      : fits.hdus.find((h) => h.image !== undefined && isTwoDimensional(h.layout.axes));
   if (!hdu || !hdu.image) {
     throw new CoreError(
       opts.hdu === undefined ? 'FITS_NO_IMAGE' : 'INPUT_BAD_PARAMETER',
-      opts.hdu === undefined ? 'the file holds no image with pixels' : `HDU ${opts.hdu} is not an image with pixels`,
+      opts.hdu === undefined ? 'the file holds no 2-D image with pixels' : `HDU ${opts.hdu} is not an image with pixels`,
       { file, ...(opts.hdu !== undefined ? { hdu: opts.hdu } : {}) },
     );
   }
@@ -51,10 +62,12 @@ export async function loadFrame(file: string, opts: LoadOptions): Promise<Loaded
 /** Header of the image HDU that `loadFrame` would measure, reading no pixel data. */
 export async function loadFrameHeader(file: string, opts: LoadOptions): Promise<{ file: string; hdu: number; header: Header; width: number; height: number }> {
   const fits = await readFitsHeaders(file, { strict: Boolean(opts.strict), maxPixels: opts.maxPixels, file });
-  const hdu = fits.hdus.find((h) =>
-    opts.hdu === undefined ? h.layout.kind === 'image' && h.layout.axes.length >= 2 && h.layout.axes.every((n) => n > 0) : h.layout.index === opts.hdu,
-  );
-  if (!hdu) throw new CoreError('FITS_NO_IMAGE', 'the file holds no image with pixels', { file });
+  const images = fits.hdus.filter((h) => h.layout.kind === 'image' && h.layout.axes.length >= 1 && h.layout.axes.every((n) => n > 0));
+  const hdu =
+    opts.hdu !== undefined
+      ? fits.hdus.find((h) => h.layout.index === opts.hdu)
+      : images.find((h) => isTwoDimensional(h.layout.axes));
+  if (!hdu) throw new CoreError('FITS_NO_IMAGE', 'the file holds no 2-D image with pixels', { file });
   return { file, hdu: hdu.layout.index, header: hdu.header, width: hdu.layout.axes[0] ?? 0, height: hdu.layout.axes[1] ?? 0 };
 }
 
