@@ -78,6 +78,8 @@ function mesh64(view) {
   return { rows: m.rows, columns: m.columns, median: core.median(m.medians) };
 }
 
+let memoryBytes;
+let tDecodeBytes = NaN;
 async function once() {
   const t = {};
   const res = {};
@@ -119,6 +121,14 @@ async function once() {
     res.meshMedian = mesh.median;
     res.meshShape = [mesh.rows, mesh.columns];
   }
+  // decode alone from bytes already in memory (issue: decoding a frame from its bytes vs astropy's read)
+  {
+    const bytes = memoryBytes ?? (memoryBytes = new Uint8Array(readFileSync(file)));
+    const t = performance.now();
+    const fits = core.parseFits(bytes, { verifyChecksums: false });
+    tDecodeBytes = performance.now() - t;
+    res.decodeBytesMedian = fits.hdus[0].image.width;
+  }
   // step by step, for the breakdown
   t0 = performance.now();
   const img = await readDecode();
@@ -146,6 +156,7 @@ async function once() {
   res.p3Stars = audit.metrics.starCount;
   res.p3Trails = audit.metrics.trails.length;
   res.elementType = img.elementType;
+  t.decode_bytes = tDecodeBytes;
   return { t, res };
 }
 
