@@ -65,6 +65,51 @@ function thresholdRaw(image: StarImage, background: BackgroundLevels, noise: Lev
         } else x++;
       }
     }
+  } else if (typeof noise === 'number' && typeof background !== 'number' && isLevelGrid(background)) {
+    // Along one run of columns between two grid centres the level is a + d x weight, monotonic in x, so the
+    // smaller of its end values bounds the threshold from below: most pixels are rejected against that bound
+    // alone, and only the rest are tested against their exact level (the float32 value a map would hold).
+    const { colSpans, colWeight } = background;
+    const colLevels = new Float64Array(background.columns);
+    const kn = k * noise;
+    for (let y = 0; y < h; y++) {
+      const base = y * w;
+      const top = background.rowTop[y]! * background.columns;
+      const bottom = background.rowBottom[y]! * background.columns;
+      const ty = background.rowWeight[y]!;
+      for (let c = 0; c < background.columns; c++) {
+        const a = background.values[top + c]!;
+        colLevels[c] = a + (background.values[bottom + c]! - a) * ty;
+      }
+      let open = false;
+      let x0 = 0;
+      for (let sp = 0; sp < colSpans.length; sp += 3) {
+        const xs = colSpans[sp]!;
+        const xe = sp + 3 < colSpans.length ? colSpans[sp + 3]! : w;
+        const a = colLevels[colSpans[sp + 1]!]!;
+        const d = colLevels[colSpans[sp + 2]!]! - a;
+        const l0 = Math.fround(a + d * colWeight[xs]!);
+        const l1 = Math.fround(a + d * colWeight[xe - 1]!);
+        const lo = (l0 < l1 ? l0 : l1) + kn;
+        for (let x = xs; x < xe; x++) {
+          const v = px[base + x]!;
+          if (v > lo && v > Math.fround(a + d * colWeight[x]!) + kn) {
+            if (!open) {
+              open = true;
+              x0 = x;
+            }
+          } else if (open) {
+            open = false;
+            runs.push(y, x0, x - 1);
+            above += x - x0;
+          }
+        }
+      }
+      if (open) {
+        runs.push(y, x0, w - 1);
+        above += w - x0;
+      }
+    }
   } else if (typeof noise === 'number' && typeof background !== 'number') {
     // a grid is read through one reused row (its values are those a Float32Array map would hold)
     const grid = isLevelGrid(background) ? background : null;
