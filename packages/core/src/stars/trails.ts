@@ -7,8 +7,8 @@ import { InvalidInputError } from '../errors.js';
 import { checkStarImage } from './detect.js';
 import { labelComponents } from './label.js';
 import { medianAndMadSigma } from './select.js';
-import { backgroundAt, isLevelGrid, levelGridRow } from './levels.js';
-import type { BackgroundLevels, DetectTrailsOptions, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
+import { backgroundAt, isLevelGrid } from './levels.js';
+import type { BackgroundLevels, DetectTrailsOptions, LevelGrid, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
 
 /** Masked regions: disks about sources, plus boxes for saturated ones (bleeds), looked up through a coarse grid. */
 interface MaskSet {
@@ -111,6 +111,59 @@ function isMasked(m: MaskSet, x: number, y: number): boolean {
 }
 
 /**
+ * One row's contribution to the block sums with the level of a grid computed in place (the float32 value a map
+ * would hold; no row buffer): the same sums in the same order as the map path, one pass over x with a flush at
+ * each block edge.
+ */
+function gridRowSums(
+  px: StarImage['pixels'],
+  base: number,
+  grid: LevelGrid,
+  y: number,
+  bandMask: Uint8Array,
+  mbase: number,
+  bin: number,
+  colLevels: Float64Array,
+  sum: Float64Array,
+  cnt: Int32Array,
+): void {
+  const { colSpans, colWeight, columns, values, width: w } = grid;
+  const top = grid.rowTop[y]! * columns;
+  const bottom = grid.rowBottom[y]! * columns;
+  const ty = grid.rowWeight[y]!;
+  for (let c = 0; c < columns; c++) {
+    const a = values[top + c]!;
+    colLevels[c] = a + (values[bottom + c]! - a) * ty;
+  }
+  let bx = 0;
+  let edge = Math.min(w, bin);
+  let s = 0;
+  let c = 0;
+  for (let sp = 0; sp < colSpans.length; sp += 3) {
+    const xe = sp + 3 < colSpans.length ? colSpans[sp + 3]! : w;
+    const a = colLevels[colSpans[sp + 1]!]!;
+    const d = colLevels[colSpans[sp + 2]!]! - a;
+    for (let x = colSpans[sp]!; x < xe; x++) {
+      if (bandMask[mbase + x] === 0) {
+        const f = px[base + x]! - Math.fround(a + d * colWeight[x]!);
+        if (f === f) {
+          s += f;
+          c++;
+        }
+      }
+      if (x + 1 === edge) {
+        sum[bx]! += s;
+        cnt[bx]! += c;
+        s = 0;
+        c = 0;
+        bx++;
+        edge = Math.min(w, edge + bin);
+      }
+    }
+  }
+}
+
+/**
  * Block means of background-subtracted, unmasked pixels (NaN for blocks with fewer than half their pixels
  * usable). Rows are read in bands of `bin` rows; a band's mask is painted from the mask set first.
  */
@@ -124,7 +177,7 @@ function binnedMeans(image: StarImage, background: BackgroundLevels, masks: Mask
   const bandMask = new Uint8Array(bin * w);
   // a grid is read through one reused row (its values are those a Float32Array map would hold)
   const grid = typeof background !== 'number' && isLevelGrid(background) ? background : null;
-  const bgMap = typeof background === 'number' ? null : grid === null ? (background as Float32Array | Float64Array) : new Float32Array(w);
+  const bgMap = typeof background === 'number' ? null : grid === null ? (background as Float32Array | Float64Array) : null;
   const columnScratch = new Float64Array(grid === null ? 0 : grid.columns);
   const bs = typeof background === 'number' ? background : 0;
   // sources by band: each mask lands in the bands its extent touches
@@ -170,8 +223,10 @@ function binnedMeans(image: StarImage, background: BackgroundLevels, masks: Mask
     for (let ry = 0; ry < rows; ry++) {
       const base = (y0 + ry) * w;
       const mbase = ry * w;
-      if (grid !== null) levelGridRow(grid, y0 + ry, bgMap as Float32Array, columnScratch);
-      const bo = grid === null ? base : 0;
+      if (grid !== null) {
+        gridRowSums(px, base, grid, y0 + ry, bandMask, mbase, bin, columnScratch, sum, cnt);
+        continue;
+      }
       for (let bx = 0; bx < bw; bx++) {
         const xa = bx * bin;
         const xe = Math.min(w, xa + bin);
@@ -189,7 +244,7 @@ function binnedMeans(image: StarImage, background: BackgroundLevels, masks: Mask
         } else {
           for (let x = xa; x < xe; x++) {
             if (bandMask[mbase + x]) continue;
-            const f = px[base + x]! - bgMap[bo + x]!;
+            const f = px[base + x]! - bgMap[base + x]!;
             if (f === f) {
               s += f;
               c++;
