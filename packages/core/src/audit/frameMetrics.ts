@@ -24,12 +24,6 @@ export interface LightFrameOptions {
   skipTrails?: boolean;
   /** Stars whose fluxes give `starSignalAdu` (the brightest unsaturated ones; default 20). */
   signalStars?: number;
-  /**
-   * No longer used: the background is read from the mesh grid row by row (see `meshLevelGrid`), so no
-   * full-resolution map is written. Kept so existing callers still compile.
-   * @deprecated
-   */
-  backgroundBuffer?: Float32Array;
 }
 
 /** The metrics plus the intermediate products a report may draw (background mesh, stars, trails). */
