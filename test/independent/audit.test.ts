@@ -183,7 +183,7 @@ describe('subgauge audit on nights from the independent numpy/astropy generator'
     expect(trails).toBe(SEEDS.length);
   });
 
-  // Finding F3 in /tmp/independent-findings.md: pieces of the trail are counted as stars (about 70 instead of
+  // Finding F3 in docs/findings-independent-night.md: pieces of the trail are counted as stars (about 70 instead of
   // about 37 on the other frames), so a trail hides a loss of stars. Expected to pass once fixed.
   it.fails("audit --json counts the trail frame's stars within 30 % of the clean frames' median", (ctx) => {
     if (!need(ctx)) return;
@@ -195,7 +195,7 @@ describe('subgauge audit on nights from the independent numpy/astropy generator'
     }
   });
 
-  // Finding F4 in /tmp/independent-findings.md: the detected trail stops at the last whole 64-px segment, up to
+  // Finding F4 in docs/findings-independent-night.md: the detected trail stops at the last whole 64-px segment, up to
   // 63 px short of the frame edge (lengthPixels 383 for chords of 399-423 px). Expected to pass once fixed.
   it.fails('audit --json reports the trail across its whole chord of the frame, within 10 px', (ctx) => {
     if (!need(ctx)) return;
@@ -207,7 +207,7 @@ describe('subgauge audit on nights from the independent numpy/astropy generator'
     }
   });
 
-  // Finding F5 in /tmp/independent-findings.md: the star signal (median flux of the brightest detected stars, not of
+  // Finding F5 in docs/findings-independent-night.md: the star signal (median flux of the brightest detected stars, not of
   // the same stars in every frame) reads the cloud's transmission 0.4 as 0.32-1.13 over seeds 1-20 (seed 1: 0.68),
   // and rejects 3 clean frames of seed 17 as cloud. Expected to pass once the signal compares the same stars.
   it.fails("audit --json reads the cloud frame's star signal ratio within 25 % of the true transmission 0.4", (ctx) => {
