@@ -137,3 +137,23 @@ describe('frame statistics', () => {
     expect(ln.columnFixedAdu).toBeLessThan(0.5);
   });
 });
+
+describe('pairStatistics difference median on 16-bit integers', () => {
+  it('pairStatistics(uint16 pair) clips about the same median as on the float copy (histogram path = selection path)', () => {
+    for (const [w, h, seed] of [[31, 17, 1], [64, 64, 2], [5, 4, 3]] as const) {
+      const a = new Uint16Array(w * h);
+      const b = new Uint16Array(w * h);
+      let s = seed;
+      for (let i = 0; i < a.length; i++) {
+        s = (s * 1103515245 + 12345) >>> 0;
+        a[i] = 1000 + (s >>> 20);
+        s = (s * 1103515245 + 12345) >>> 0;
+        b[i] = 1000 + (s >>> 20) + (i % 97 === 0 ? 3000 : 0);
+      }
+      const view = (d: Uint16Array | Float64Array) => ({ data: d, width: w, height: h, strideX: 1, strideY: w, offset: 0 });
+      const ints = pairStatistics(view(a), view(b));
+      const floats = pairStatistics(view(Float64Array.from(a)), view(Float64Array.from(b)));
+      expect(ints).toEqual(floats);
+    }
+  });
+});
