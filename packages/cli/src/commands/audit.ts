@@ -106,6 +106,7 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
   const progress = new Progress(io, opts.progress && !opts.quiet && !opts.json, 'measuring');
   const results = await runTasks(tasks, jobs, (d, t) => progress.update(d, t));
   progress.stop();
+  const calibrationByFile = new Map(calibration.map((c) => [c.file, c]));
   const measured = new Map<string, FrameMetrics | UnreadableFrame>();
   const thumbnails = new Map<string, Thumbnail>();
   let backgroundMap: ReportBackgroundMap | undefined;
@@ -125,7 +126,7 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
         backgroundMap = { file: r.file, columns: r.mesh.columns, rows: r.mesh.rows, levelAdu: r.mesh.levelAdu, width: r.metrics.width, height: r.metrics.height };
       }
     } else if (r.medianAdu !== undefined) {
-      const c = calibration.find((x) => x.file === r.file);
+      const c = calibrationByFile.get(r.file);
       if (c) c.medianAdu = r.medianAdu;
     }
   }

@@ -1,4 +1,5 @@
 import { Option } from 'commander';
+import { DEFAULT_MAX_PIXELS } from '@subgauge/core';
 import { writeFileAtomic } from '@subgauge/core/node';
 import { type CliIo } from '../context.js';
 import { toJson } from '../render/json.js';
@@ -18,7 +19,6 @@ export interface CommonOptions {
   maxPixels: number;
 }
 
-export const DEFAULT_MAX_PIXELS = 400e6;
 
 export function outputOptions(): Option[] {
   return [
