@@ -51,32 +51,44 @@ function swap64(words: Uint32Array, highMask: number): void {
   }
 }
 
-/** Raw stored values in host order, swapped in place in `buffer` (no DataView per pixel). */
-function rawArray(buffer: ArrayBuffer, bitpix: number, count: number, unsignedMask: boolean): Pixels {
-  const words = new Uint32Array(buffer, 0, Math.floor(buffer.byteLength / 8) * 2);
+/**
+ * Raw stored values in host order, swapped in place in `buffer` from `byteOffset` (no DataView per
+ * pixel). `byteOffset` is a multiple of 8 for 64-bit types and of 4 otherwise; whole 32-bit words are
+ * swapped and a partial last word (8- and 16-bit data) byte by byte, so no byte past the data changes.
+ */
+function rawArray(buffer: ArrayBuffer, byteOffset: number, bitpix: number, count: number, unsignedMask: boolean): Pixels {
+  const dataBytes = count * (Math.abs(bitpix) / 8);
+  const words = new Uint32Array(buffer, byteOffset, Math.floor(dataBytes / 4));
+  const tail = new Uint8Array(buffer, byteOffset + words.length * 4, dataBytes - words.length * 4);
   switch (bitpix) {
     case 8:
       if (unsignedMask) {
         for (let i = 0; i < words.length; i++) words[i] = words[i]! ^ 0x80808080;
-        return new Int8Array(buffer, 0, count);
+        for (let i = 0; i < tail.length; i++) tail[i] = tail[i]! ^ 0x80;
+        return new Int8Array(buffer, byteOffset, count);
       }
-      return new Uint8Array(buffer, 0, count);
+      return new Uint8Array(buffer, byteOffset, count);
     case 16:
       // uint16: swap, then xor 0x8000 (= add 32768 to the signed value, FITS 3.0 Table 4.9).
       swap16(words, unsignedMask ? 0x80008000 : 0);
-      return unsignedMask ? new Uint16Array(buffer, 0, count) : new Int16Array(buffer, 0, count);
+      if (tail.length === 2) {
+        const hi = tail[0]!;
+        tail[0] = HOST_LITTLE_ENDIAN ? tail[1]! : hi ^ (unsignedMask ? 0x80 : 0);
+        tail[1] = HOST_LITTLE_ENDIAN ? hi ^ (unsignedMask ? 0x80 : 0) : tail[1]!;
+      }
+      return unsignedMask ? new Uint16Array(buffer, byteOffset, count) : new Int16Array(buffer, byteOffset, count);
     case 32:
       swap32(words, unsignedMask ? 0x80000000 : 0);
-      return unsignedMask ? new Uint32Array(buffer, 0, count) : new Int32Array(buffer, 0, count);
+      return unsignedMask ? new Uint32Array(buffer, byteOffset, count) : new Int32Array(buffer, byteOffset, count);
     case 64:
       swap64(words, unsignedMask ? 0x80000000 : 0);
-      return unsignedMask ? new BigUint64Array(buffer, 0, count) : new BigInt64Array(buffer, 0, count);
+      return unsignedMask ? new BigUint64Array(buffer, byteOffset, count) : new BigInt64Array(buffer, byteOffset, count);
     case -32:
       swap32(words, 0);
-      return new Float32Array(buffer, 0, count);
+      return new Float32Array(buffer, byteOffset, count);
     default:
       swap64(words, 0);
-      return new Float64Array(buffer, 0, count);
+      return new Float64Array(buffer, byteOffset, count);
   }
 }
 
@@ -185,11 +197,16 @@ export interface DecodeShape {
 
 /**
  * Decode image pixels from big-endian bytes. `src` starts at the first requested pixel and holds at
- * least width x height x planes x |BITPIX|/8 bytes. One copy, swapped in place.
+ * least width x height x planes x |BITPIX|/8 bytes. One copy, swapped in place; with `inPlace` and
+ * `src` aligned to the element size (8 bytes for 64-bit types, else 4), no copy: the bytes of `src`
+ * are swapped where they are and become the pixel store.
  */
-export function decodePixels(src: Uint8Array, layout: HduLayout, shape: DecodeShape): ImageData {
+export function decodePixels(src: Uint8Array, layout: HduLayout, shape: DecodeShape, inPlace = false): ImageData {
   const count = shape.width * shape.height * shape.planes;
-  return decodeBuffer(copyAligned(src, count * (Math.abs(layout.bitpix) / 8)), layout, shape);
+  const dataBytes = count * (Math.abs(layout.bitpix) / 8);
+  const alignment = Math.abs(layout.bitpix) === 64 ? 8 : 4;
+  if (inPlace && src.byteOffset % alignment === 0 && src.length >= dataBytes) return decodeInto(src.buffer as ArrayBuffer, src.byteOffset, layout, shape);
+  return decodeBuffer(copyAligned(src, dataBytes), layout, shape);
 }
 
 /** A fresh buffer for `length` bytes of raw data: zero-filled, its length a multiple of 8. */
@@ -202,12 +219,17 @@ export function alignedBuffer(length: number): ArrayBuffer {
  * from byte 0). The buffer is swapped in place and becomes the pixel store: no further copy.
  */
 export function decodeBuffer(buffer: ArrayBuffer, layout: HduLayout, shape: DecodeShape): ImageData {
+  return decodeInto(buffer, 0, layout, shape);
+}
+
+/** Decode the raw big-endian data at `byteOffset` of `buffer`, swapping them in place. */
+function decodeInto(buffer: ArrayBuffer, byteOffset: number, layout: HduLayout, shape: DecodeShape): ImageData {
   const type = layout.elementType ?? 'float64';
   const count = shape.width * shape.height * shape.planes;
   const bitpix = layout.bitpix;
   const unsigned = type === 'int8' || type === 'uint16' || type === 'uint32' || type === 'uint64';
   const scaledInts = bitpix > 0 && (type === 'float32' || type === 'float64');
-  const raw = rawArray(buffer, bitpix, count, unsigned);
+  const raw = rawArray(buffer, byteOffset, bitpix, count, unsigned);
   let pixels: Pixels = raw;
   let blankCount = 0;
   let blankValue: number | bigint | undefined;

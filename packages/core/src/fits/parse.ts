@@ -268,7 +268,8 @@ export function decodeTargets(listed: readonly ListedHdu[], opts: ParseOptions, 
  *
  * @param bytes - the whole file (not gzip-compressed).
  * @param opts - see {@link ParseOptions}: `strict`, `maxPixels` (default 400e6), `decode` (default true),
- *   `hdu`, `rows`, `verifyChecksums` (default = decode), `file` (for error locations).
+ *   `hdu`, `rows`, `verifyChecksums` (default = decode), `file` (for error locations), `inPlace` (decode
+ *   into `bytes`, which the caller gives up).
  * @returns the HDUs in file order and the diagnostics (tolerable problems).
  * @throws FitsFormatError 'FITS_NOT_FITS' | 'FITS_NO_END' | 'FITS_KEYWORD_ORDER' | 'FITS_BAD_BITPIX' |
  *   'FITS_BAD_NAXIS' | 'FITS_BAD_VALUE' | 'FITS_TRUNCATED' | 'FITS_TOO_LARGE' | 'FITS_NO_IMAGE' |
@@ -300,14 +301,18 @@ export function parseFits(bytes: Uint8Array, opts: ParseOptions = {}): FitsFile 
       }
       const bytesPer = Math.abs(layout.bitpix) / 8;
       const start = layout.dataOffset + shape.rowStart * shape.width * bytesPer;
-      if (shape.width * shape.height * shape.planes > 0) hdu.image = decodePixels(bytes.subarray(start), layout, shape);
-    } else if (item.truncated) {
-      sink.warn('FITS_TRUNCATED', `HDU ${layout.index}: data end at byte ${layout.dataOffset + layout.dataBytes}, the file at ${bytes.length}`, {
-        hdu: layout.index,
-        byte: bytes.length,
-      });
+      // Checksums are taken before decoding: decoding in place swaps the data bytes.
+      if (verify && (opts.hdu === undefined || opts.hdu === layout.index)) hdu.checksum = verifyHduChecksums(bytes, item, sink);
+      if (shape.width * shape.height * shape.planes > 0) hdu.image = decodePixels(bytes.subarray(start), layout, shape, opts.inPlace === true);
+    } else {
+      if (item.truncated) {
+        sink.warn('FITS_TRUNCATED', `HDU ${layout.index}: data end at byte ${layout.dataOffset + layout.dataBytes}, the file at ${bytes.length}`, {
+          hdu: layout.index,
+          byte: bytes.length,
+        });
+      }
+      if (verify && (opts.hdu === undefined || opts.hdu === layout.index)) hdu.checksum = verifyHduChecksums(bytes, item, sink);
     }
-    if (verify && (opts.hdu === undefined || opts.hdu === layout.index)) hdu.checksum = verifyHduChecksums(bytes, item, sink);
     hdus.push(hdu);
   }
   return { hdus, diagnostics: sink.list };

@@ -157,6 +157,13 @@ export interface ParseOptions {
   verifyChecksums?: boolean;
   /** File name for error locations. */
   file?: string;
+  /**
+   * Decode into `bytes` themselves (parseFits only): each decoded image's pixels become a view over
+   * `bytes.buffer`, swapped where they lie, so no pixel buffer is allocated and no byte copied. The
+   * caller hands the bytes over: afterwards they no longer hold the file. Checksums are verified first.
+   * A data unit not aligned to its element size (8 bytes for 64-bit types, else 4) is copied as usual.
+   */
+  inPlace?: boolean;
 }
 
 export interface FitsFile {

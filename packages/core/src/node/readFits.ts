@@ -81,7 +81,7 @@ export async function readFitsFile(path: string, opts: ParseOptions = {}): Promi
   return withFile(path, async (fd, size) => {
     const counter = { n: 0 };
     const first = firstBlockOf(fd, size, counter);
-    if (isGzipMagic(first)) return parseFits(await inflate(await readFile(path, { flag: 'r' }), path), { ...opts, file: path });
+    if (isGzipMagic(first)) return parseFits(await inflate(await readFile(path, { flag: 'r' }), path), { ...opts, file: path, inPlace: true });
     return readDirect(fd, size, first, opts, path, counter);
   });
 }
@@ -401,7 +401,7 @@ export async function readFitsRows(path: string, range: RowRange, opts: ParseOpt
     const first = firstBlockOf(fd, size, counter);
     if (isGzipMagic(first)) {
       const bytes = await inflate(await readFile(path, { flag: 'r' }), path);
-      return parseFits(bytes, parseOpts);
+      return parseFits(bytes, { ...parseOpts, inPlace: true });
     }
     const listed = walkHeaders(fd, size, sink, range.hdu, counter, first);
     const target = [...decodeTargets(listed, parseOpts, sink)][0]!;
