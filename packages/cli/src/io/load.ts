@@ -21,6 +21,8 @@ export interface LoadOptions {
   strict?: boolean;
   hdu?: number;
   maxPixels: number;
+  /** A pixel buffer no longer needed, for readFitsFile to read into (see its reuseBuffer). */
+  reuseBuffer?: ArrayBuffer;
 }
 
 export function failureOf(file: string, err: unknown): LoadFailure {
@@ -44,6 +46,7 @@ export async function loadFrame(file: string, opts: LoadOptions): Promise<Loaded
     file,
     verifyChecksums: false,
     ...(opts.hdu !== undefined ? { hdu: opts.hdu } : {}),
+    ...(opts.reuseBuffer !== undefined ? { reuseBuffer: opts.reuseBuffer } : {}),
   });
   const hdu =
     opts.hdu !== undefined

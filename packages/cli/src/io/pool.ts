@@ -24,7 +24,8 @@ export async function runTasks(tasks: readonly FrameTask[], jobs: number, onDone
     }
     return results;
   }
-  const pool = new Piscina({ filename: workerFile, minThreads: jobs, maxThreads: jobs, idleTimeout: 1000 });
+  // One task at a time per worker: frameTask reuses its thread's last pixel buffer for the next frame.
+  const pool = new Piscina({ filename: workerFile, minThreads: jobs, maxThreads: jobs, concurrentTasksPerWorker: 1, idleTimeout: 1000 });
   try {
     await Promise.all(
       tasks.map(async (t, i) => {

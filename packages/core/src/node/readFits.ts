@@ -77,7 +77,7 @@ async function inflate(bytes: Uint8Array, file: string): Promise<Uint8Array> {
  *   parseFits error, all with `where.file`.
  * @example const fits = await readFitsFile('light_0001.fits');
  */
-export async function readFitsFile(path: string, opts: ParseOptions = {}): Promise<FitsFile> {
+export async function readFitsFile(path: string, opts: ReadFileOptions = {}): Promise<FitsFile> {
   return withFile(path, async (fd, size) => {
     const counter = { n: 0 };
     const first = firstBlockOf(fd, size, counter);
@@ -86,9 +86,19 @@ export async function readFitsFile(path: string, opts: ParseOptions = {}): Promi
   });
 }
 
-/** Read `length` bytes at `position` into a fresh aligned buffer (the future pixel store). */
-function readIntoBuffer(fd: number, position: number, length: number, counter: { n: number }): { buffer: ArrayBuffer; bytes: Uint8Array } {
-  const buffer = alignedBuffer(length);
+/** readFitsFile's options: parseFits's, and a spare buffer to read pixels into. */
+export interface ReadFileOptions extends ParseOptions {
+  /**
+   * A buffer whose contents are no longer needed (the pixel buffer of a frame already measured, say): the
+   * first decoded image is read into it when it is large enough, instead of into fresh memory. A loop over
+   * many frames of one size then touches no new pages (each fresh page costs a kernel fault and zeroing).
+   */
+  reuseBuffer?: ArrayBuffer;
+}
+
+/** Read `length` bytes at `position` into an aligned buffer (the future pixel store): `reuse` when it is large enough, else a fresh one. */
+function readIntoBuffer(fd: number, position: number, length: number, counter: { n: number }, reuse?: ArrayBuffer): { buffer: ArrayBuffer; bytes: Uint8Array } {
+  const buffer = reuse !== undefined && reuse.byteLength >= length ? reuse : alignedBuffer(length);
   const bytes = new Uint8Array(buffer, 0, length);
   let got = 0;
   while (got < length) {
@@ -101,7 +111,8 @@ function readIntoBuffer(fd: number, position: number, length: number, counter: {
 }
 
 /** parseFits semantics over a file descriptor: headers walked, data units read one at a time. */
-function readDirect(fd: number, size: number, first: Uint8Array, opts: ParseOptions, path: string, counter: { n: number }): FitsFile {
+function readDirect(fd: number, size: number, first: Uint8Array, opts: ReadFileOptions, path: string, counter: { n: number }): FitsFile {
+  let reuse = opts.reuseBuffer;
   const sink = new DiagnosticSink(opts.strict === true, path);
   const headerBlocks: Uint8Array[] = [];
   const listed = walkHeaders(fd, size, sink, undefined, counter, first, headerBlocks);
@@ -131,12 +142,14 @@ function readDirect(fd: number, size: number, first: Uint8Array, opts: ParseOpti
       const bytesPer = Math.abs(layout.bitpix) / 8;
       if (opts.rows !== undefined) {
         const from = layout.dataOffset + shape.rowStart * shape.width * bytesPer;
-        const { buffer } = readIntoBuffer(fd, from, count * bytesPer, counter);
+        const { buffer } = readIntoBuffer(fd, from, count * bytesPer, counter, reuse);
+        reuse = undefined;
         if (count > 0) hdu.image = decodeBuffer(buffer, layout, shape);
         continue;
       }
       // Data and padding in one read; the checksum is taken before the in-place swap.
-      const { buffer, bytes } = readIntoBuffer(fd, layout.dataOffset, available, counter);
+      const { buffer, bytes } = readIntoBuffer(fd, layout.dataOffset, available, counter, reuse);
+      reuse = undefined;
       checkPadding(bytes, layout, sink, layout.dataOffset);
       if (wantSum) hdu.checksum = checksumStatus(item, onesComplementSum(headerBlocks[layout.index]!), onesComplementSum(bytes), sink);
       if (count > 0) hdu.image = decodeBuffer(buffer, layout, shape);

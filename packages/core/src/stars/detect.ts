@@ -8,7 +8,7 @@ import { RunList, labelRuns } from './label.js';
 import { PROFILE_LAMBDAS, createMeasureContext, finishProfile, measureFootprint, measureRunsComponent, profileChiSquaresOf } from './measure.js';
 import type { MeasureContext, PendingSource } from './measure.js';
 import { backgroundAt, isLevelGrid, levelGridRow } from './levels.js';
-import type { BackgroundLevels, DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage } from './types.js';
+import type { BackgroundLevels, DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage, StarSource } from './types.js';
 
 /** Check a frame and its background/noise maps; throws InvalidInputError. */
 export function checkStarImage(image: StarImage, background: BackgroundLevels, noise: LevelMap): void {
@@ -428,6 +428,126 @@ function calibrateProfile(ctx: MeasureContext, pending: PendingSource[]): { lamb
   return { lambda, stars: used.length };
 }
 
+/** Per component: pixel count, bounding box and a linked list of its runs in raster order. */
+interface ComponentExtents {
+  area: Int32Array;
+  head: Int32Array;
+  next: Int32Array;
+  bx0: Int32Array;
+  bx1: Int32Array;
+  by0: Int32Array;
+  by1: Int32Array;
+}
+
+// The loops live in small functions of their own so that the optimizing compiler works on each loop once,
+// not on the whole detector again for every loop it enters (on-stack replacement); a worker pool pays the
+// compile cost once per thread.
+function componentExtents(runs: RunList, componentOfRun: Int32Array, componentCount: number, width: number): ComponentExtents {
+  const area = new Int32Array(componentCount);
+  const head = new Int32Array(componentCount).fill(-1);
+  const tail = new Int32Array(componentCount);
+  const next = new Int32Array(runs.count).fill(-1);
+  const bx0 = new Int32Array(componentCount).fill(width);
+  const bx1 = new Int32Array(componentCount).fill(-1);
+  const by0 = new Int32Array(componentCount);
+  const by1 = new Int32Array(componentCount);
+  for (let r = 0; r < runs.count; r++) {
+    const c = componentOfRun[r]!;
+    const x0 = runs.x0[r]!;
+    const x1 = runs.x1[r]!;
+    const y = runs.y[r]!;
+    area[c]! += x1 - x0 + 1;
+    if (head[c]! < 0) {
+      head[c] = r;
+      by0[c] = y;
+    } else next[tail[c]!] = r;
+    tail[c] = r;
+    by1[c] = y;
+    if (x0 < bx0[c]!) bx0[c] = x0;
+    if (x1 > bx1[c]!) bx1[c] = x1;
+  }
+  return { area, head, next, bx0, bx1, by0, by1 };
+}
+
+/** Fit each pending source's profile with the frame's lambda and return the finished sources. */
+function finishSources(ctx: MeasureContext, pending: readonly PendingSource[], lambda: number): StarSource[] {
+  const sources: StarSource[] = new Array(pending.length);
+  for (let i = 0; i < pending.length; i++) {
+    finishProfile(ctx, pending[i]!, lambda);
+    sources[i] = pending[i]!.source;
+  }
+  return sources;
+}
+
+interface SplitSettings {
+  connectivity: 4 | 8;
+  minPixels: number;
+  dipSigma: number;
+  dipFraction: number;
+}
+
+/**
+ * Measure the chosen components into `pending` (in order): each is split at its saddles when `split` is given,
+ * and each part measured; a component over maxPixels is measured whole, unsplit. Returns that count.
+ */
+function measureComponents(
+  ctx: MeasureContext,
+  runs: RunList,
+  comps: ComponentExtents,
+  chosen: readonly number[],
+  maxPixels: number,
+  split: SplitSettings | null,
+  pending: PendingSource[],
+): number {
+  const { area, head, next, bx0, bx1, by0, by1 } = comps;
+  const width = ctx.width;
+  let idx = new Int32Array(1024);
+  let sorted = new Int32Array(1024);
+  let sc = newSplitScratch(1024);
+  let tooLargeCount = 0;
+  for (let i = 0; i < chosen.length; i++) {
+    const c = chosen[i]!;
+    const n = area[c]!;
+    if (n > maxPixels) {
+      tooLargeCount++;
+      pending.push(measureRunsComponent(ctx, runs.y, runs.x0, runs.x1, head[c]!, next, n, { id: pending.length + 1, blended: false }));
+      continue;
+    }
+    if (idx.length < n) {
+      idx = new Int32Array(2 * n);
+      sorted = new Int32Array(2 * n);
+    }
+    let m = 0;
+    for (let r = head[c]!; r >= 0; r = next[r]!) {
+      const base = runs.y[r]! * width;
+      for (let x = runs.x0[r]!; x <= runs.x1[r]!; x++) idx[m++] = base + x;
+    }
+    const gw = bx1[c]! - bx0[c]! + 1;
+    const gh = by1[c]! - by0[c]! + 1;
+    let parts = 1;
+    if (split !== null && n >= split.minPixels + 2) {
+      if (sc.vals.length < n || sc.grid.length < gw * gh) sc = newSplitScratch(Math.max(2 * n, gw * gh));
+      parts = splitComponent(ctx, idx, n, bx0[c]!, by0[c]!, gw, gh, split.connectivity, split.minPixels, split.dipSigma, split.dipFraction, sc);
+    }
+    if (parts === 1) {
+      pending.push(measureFootprint(ctx, idx, 0, n, { id: pending.length + 1, blended: false }));
+      continue;
+    }
+    // order pixels by part (counting sort) and measure each part
+    const counts = new Int32Array(parts + 1);
+    for (let q = 0; q < n; q++) counts[sc.part[q]! + 1]!++;
+    for (let p = 0; p < parts; p++) counts[p + 1]! += counts[p]!;
+    const starts = counts.slice(0, parts);
+    for (let q = 0; q < n; q++) sorted[counts[sc.part[q]!]!++] = idx[q]!;
+    for (let p = 0; p < parts; p++) {
+      const s0 = starts[p]!;
+      const len = (p + 1 < parts ? starts[p + 1]! : n) - s0;
+      pending.push(measureFootprint(ctx, sorted, s0, len, { id: pending.length + 1, blended: true }));
+    }
+  }
+  return tooLargeCount;
+}
+
 /**
  * Detect and measure stars (REFERENCE E.3, E.2, E.1).
  *
@@ -470,89 +590,24 @@ export function detectStars(image: StarImage, options: DetectStarsOptions): Star
   const above = filterFwhm > 0 ? thresholdFiltered(image, background, noise, k, filterFwhm, runs) : thresholdRaw(image, background, noise, k, runs);
   const { componentOfRun, componentCount } = labelRuns(runs, connectivity);
 
-  // per component: pixel count, bounding box, linked list of runs (raster order)
-  const area = new Int32Array(componentCount);
-  const head = new Int32Array(componentCount).fill(-1);
-  const tail = new Int32Array(componentCount);
-  const next = new Int32Array(runs.count).fill(-1);
-  const bx0 = new Int32Array(componentCount).fill(width);
-  const bx1 = new Int32Array(componentCount).fill(-1);
-  const by0 = new Int32Array(componentCount);
-  const by1 = new Int32Array(componentCount);
-  for (let r = 0; r < runs.count; r++) {
-    const c = componentOfRun[r]!;
-    const x0 = runs.x0[r]!;
-    const x1 = runs.x1[r]!;
-    const y = runs.y[r]!;
-    area[c]! += x1 - x0 + 1;
-    if (head[c]! < 0) {
-      head[c] = r;
-      by0[c] = y;
-    } else next[tail[c]!] = r;
-    tail[c] = r;
-    by1[c] = y;
-    if (x0 < bx0[c]!) bx0[c] = x0;
-    if (x1 > bx1[c]!) bx1[c] = x1;
-  }
-
+  const comps = componentExtents(runs, componentOfRun, componentCount, width);
   const ctx = createMeasureContext(pixels, width, height, background, noise, saturationAdu, gain, options.localBackground ?? false);
-  const pending: PendingSource[] = [];
-  let idx = new Int32Array(1024);
-  let sorted = new Int32Array(1024);
-  let sc = newSplitScratch(1024);
-  let tooLargeCount = 0;
   // components to measure; past maxSources only the largest (a cheap stand-in for the brightest) are kept
   let chosen: number[] = [];
-  for (let c = 0; c < componentCount; c++) if (area[c]! >= minPixels) chosen.push(c);
+  for (let c = 0; c < componentCount; c++) if (comps.area[c]! >= minPixels) chosen.push(c);
   const candidates = chosen.length;
   if (chosen.length > maxSources) {
+    const area = comps.area;
     chosen.sort((a, b) => area[b]! - area[a]! || a - b);
     chosen = chosen.slice(0, maxSources).sort((a, b) => a - b);
   }
-  for (const c of chosen) {
-    const n = area[c]!;
-    if (n > maxPixels) {
-      tooLargeCount++;
-      pending.push(measureRunsComponent(ctx, runs.y, runs.x0, runs.x1, head[c]!, next, n, { id: pending.length + 1, blended: false }));
-      continue;
-    }
-    if (idx.length < n) {
-      idx = new Int32Array(2 * n);
-      sorted = new Int32Array(2 * n);
-    }
-    let m = 0;
-    for (let r = head[c]!; r >= 0; r = next[r]!) {
-      const base = runs.y[r]! * width;
-      for (let x = runs.x0[r]!; x <= runs.x1[r]!; x++) idx[m++] = base + x;
-    }
-    const gw = bx1[c]! - bx0[c]! + 1;
-    const gh = by1[c]! - by0[c]! + 1;
-    let parts = 1;
-    if (deblend && n >= minPixels + 2) {
-      if (sc.vals.length < n || sc.grid.length < gw * gh) sc = newSplitScratch(Math.max(2 * n, gw * gh));
-      parts = splitComponent(ctx, idx, n, bx0[c]!, by0[c]!, gw, gh, connectivity, minPixels, dipSigma, dipFraction, sc);
-    }
-    if (parts === 1) {
-      pending.push(measureFootprint(ctx, idx, 0, n, { id: pending.length + 1, blended: false }));
-      continue;
-    }
-    // order pixels by part (counting sort) and measure each part
-    const counts = new Int32Array(parts + 1);
-    for (let q = 0; q < n; q++) counts[sc.part[q]! + 1]!++;
-    for (let p = 0; p < parts; p++) counts[p + 1]! += counts[p]!;
-    const starts = counts.slice(0, parts);
-    for (let q = 0; q < n; q++) sorted[counts[sc.part[q]!]!++] = idx[q]!;
-    for (let p = 0; p < parts; p++) {
-      const s0 = starts[p]!;
-      const len = (p + 1 < parts ? starts[p + 1]! : n) - s0;
-      pending.push(measureFootprint(ctx, sorted, s0, len, { id: pending.length + 1, blended: true }));
-    }
-  }
+  const pending: PendingSource[] = [];
+  const split = deblend ? { connectivity, minPixels, dipSigma, dipFraction } : null;
+  const tooLargeCount = measureComponents(ctx, runs, comps, chosen, maxPixels, split, pending);
 
   const { lambda: profileLambda, stars: calibrationStars } =
     options.profileLambda !== undefined ? { lambda: options.profileLambda, stars: 0 } : calibrateProfile(ctx, pending);
-  for (const p of pending) finishProfile(ctx, p, profileLambda);
-  const sources = pending.map((p) => p.source);
+  const sources = finishSources(ctx, pending, profileLambda);
 
   const diagnostics: Diagnostic[] = [];
   if (above > 0.05 * width * height) {

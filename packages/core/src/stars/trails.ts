@@ -570,6 +570,208 @@ function sameTrail(a: Trail, b: Trail): boolean {
   return Math.abs(-(mx - a.x0) * uy + (my - a.y0) * ux) < 12;
 }
 
+// The stages live in functions of their own so that the optimizing compiler works on each loop once, not on
+// the whole detector again for every loop it enters (on-stack replacement); a worker pool pays that per thread.
+
+interface TrailCandidate {
+  line: Line;
+  blocks: number;
+  foundBy: 'hough' | 'component';
+}
+
+function thresholdMask(z: Float32Array, k: number): Uint8Array {
+  const mask = new Uint8Array(z.length);
+  for (let i = 0; i < mask.length; i++) mask[i] = z[i]! >= k ? 1 : 0;
+  return mask;
+}
+
+/** Per component (label 1..count): extents and first and second moments, in block coordinates. */
+interface BlockMoments {
+  count: number;
+  minX: Int32Array;
+  maxX: Int32Array;
+  minY: Int32Array;
+  maxY: Int32Array;
+  n: Float64Array;
+  sx: Float64Array;
+  sy: Float64Array;
+  sxx: Float64Array;
+  syy: Float64Array;
+  sxy: Float64Array;
+}
+
+function blockMoments(labels: Int32Array, count: number, bw: number, bh: number): BlockMoments {
+  const minX = new Int32Array(count + 1).fill(bw);
+  const maxX = new Int32Array(count + 1).fill(-1);
+  const minY = new Int32Array(count + 1).fill(bh);
+  const maxY = new Int32Array(count + 1).fill(-1);
+  const n = new Float64Array(count + 1);
+  const sx = new Float64Array(count + 1);
+  const sy = new Float64Array(count + 1);
+  const sxx = new Float64Array(count + 1);
+  const syy = new Float64Array(count + 1);
+  const sxy = new Float64Array(count + 1);
+  for (let y = 0; y < bh; y++) {
+    for (let x = 0; x < bw; x++) {
+      const c = labels[y * bw + x]!;
+      if (c === 0) continue;
+      if (x < minX[c]!) minX[c] = x;
+      if (x > maxX[c]!) maxX[c] = x;
+      if (y < minY[c]!) minY[c] = y;
+      if (y > maxY[c]!) maxY[c] = y;
+      n[c]!++;
+      sx[c]! += x;
+      sy[c]! += y;
+      sxx[c]! += x * x;
+      syy[c]! += y * y;
+      sxy[c]! += x * y;
+    }
+  }
+  return { count, minX, maxX, minY, maxY, n, sx, sy, sxx, syy, sxy };
+}
+
+/** The blocks of components spanning at least 3 blocks, as points (block coordinates), and which components those are. */
+function keptBlocks(labels: Int32Array, m: BlockMoments, bw: number, bh: number): { xs: Float64Array; ys: Float64Array; keep: Uint8Array } {
+  const keep = new Uint8Array(m.count + 1);
+  let nPts = 0;
+  for (let c = 1; c <= m.count; c++) {
+    if (Math.max(m.maxX[c]! - m.minX[c]!, m.maxY[c]! - m.minY[c]!) + 1 >= 3) {
+      keep[c] = 1;
+      nPts += m.n[c]!;
+    }
+  }
+  const xs = new Float64Array(nPts);
+  const ys = new Float64Array(nPts);
+  let np = 0;
+  for (let y = 0; y < bh; y++) {
+    for (let x = 0; x < bw; x++) {
+      if (keep[labels[y * bw + x]!]) {
+        xs[np] = x;
+        ys[np] = y;
+        np++;
+      }
+    }
+  }
+  return { xs, ys, keep };
+}
+
+function toPixels(l: Line, bin: number): Line {
+  return { px: (l.px + 0.5) * bin - 0.5, py: (l.py + 0.5) * bin - 0.5, ux: l.ux, uy: l.uy };
+}
+
+/** Long, elongated groups of blocks: the major axis of each kept component (second moments). */
+function componentCandidates(m: BlockMoments, keep: Uint8Array, bin: number, minLength: number): TrailCandidate[] {
+  const candidates: TrailCandidate[] = [];
+  for (let c = 1; c <= m.count; c++) {
+    if (!keep[c]) continue;
+    const n = m.n[c]!;
+    const mx = m.sx[c]! / n;
+    const my = m.sy[c]! / n;
+    const vxx = m.sxx[c]! / n - mx * mx;
+    const vyy = m.syy[c]! / n - my * my;
+    const vxy = m.sxy[c]! / n - mx * my;
+    const mean = (vxx + vyy) / 2;
+    const root = Math.sqrt(((vxx - vyy) / 2) ** 2 + vxy * vxy);
+    const a2 = mean + root;
+    const b2 = Math.max(mean - root, 1 / 12);
+    const lengthBlocks = Math.sqrt(12 * a2);
+    if (lengthBlocks * bin >= minLength && a2 / b2 >= 25) {
+      const t = 0.5 * Math.atan2(2 * vxy, vxx - vyy);
+      candidates.push({ line: toPixels({ px: mx, py: my, ux: Math.cos(t), uy: Math.sin(t) }, bin), blocks: n, foundBy: 'component' });
+    }
+  }
+  return candidates;
+}
+
+const HOUGH_THETAS = 360;
+const HOUGH_RHO_BLOCKS = 2;
+
+/** Add `d` to the accumulator cells of every line through block point (x, y). */
+function houghVote(acc: Int32Array, cosT: Float64Array, sinT: Float64Array, D: number, nRho: number, x: number, y: number, d: number): void {
+  for (let t = 0, row = D; t < HOUGH_THETAS; t++, row += nRho) acc[row + Math.round(x * cosT[t]! + y * sinT[t]!)]! += d;
+}
+
+/** Index of the accumulator's largest cell (the first of equals), or -1 when every cell is <= 0. */
+function houghPeak(acc: Int32Array): number {
+  let best = 0;
+  let bj = -1;
+  for (let j = 0; j < acc.length; j++) {
+    if (acc[j]! > best) {
+      best = acc[j]!;
+      bj = j;
+    }
+  }
+  return bj;
+}
+
+/** Alive points within `band` of the line (block coordinates) into sx, sy, support; returns the count. */
+function collectNear(xs: Float64Array, ys: Float64Array, alive: Uint8Array, l: Line, band: number, sx: Float64Array, sy: Float64Array, support: Int32Array): number {
+  let ns = 0;
+  const nx = -l.uy;
+  const ny = l.ux;
+  for (let i = 0; i < xs.length; i++) {
+    if (!alive[i]) continue;
+    if (Math.abs((xs[i]! - l.px) * nx + (ys[i]! - l.py) * ny) <= band) {
+      support[ns] = i;
+      sx[ns] = xs[i]!;
+      sy[ns] = ys[i]!;
+      ns++;
+    }
+  }
+  return ns;
+}
+
+/**
+ * Hough accumulator over the kept blocks: theta in 0.5-degree steps, rho in 2-block bins (coarse, so that the
+ * peak scan stays cheap); each peak's line is then refined on its own blocks, whose votes are taken back.
+ */
+function houghCandidates(xs: Float64Array, ys: Float64Array, bw: number, bh: number, bin: number, minLength: number, maxCandidates: number): TrailCandidate[] {
+  const candidates: TrailCandidate[] = [];
+  const nTheta = HOUGH_THETAS;
+  const RB = HOUGH_RHO_BLOCKS;
+  const D = Math.ceil(Math.hypot(bw, bh) / RB) + 1;
+  const nRho = 2 * D + 1;
+  const cosT = new Float64Array(nTheta);
+  const sinT = new Float64Array(nTheta);
+  for (let t = 0; t < nTheta; t++) {
+    cosT[t] = Math.cos((Math.PI * t) / nTheta) / RB;
+    sinT[t] = Math.sin((Math.PI * t) / nTheta) / RB;
+  }
+  const np = xs.length;
+  const acc = new Int32Array(nTheta * nRho);
+  for (let i = 0; i < np; i++) houghVote(acc, cosT, sinT, D, nRho, xs[i]!, ys[i]!, 1);
+  const alive = new Uint8Array(np).fill(1);
+  // a trail of minLength lights about minLength / bin blocks; allow for masked stretches, gaps and the coarse bins
+  const minVotes = Math.max(6, (0.4 * minLength) / bin);
+  const sx = new Float64Array(np);
+  const sy = new Float64Array(np);
+  const support = new Int32Array(np);
+  for (let round = 0; round < maxCandidates; round++) {
+    const bj = houghPeak(acc);
+    if (bj < 0 || acc[bj]! < minVotes) break;
+    const t = Math.floor(bj / nRho);
+    const rho = ((bj % nRho) - D) * RB;
+    const th = (Math.PI * t) / nTheta;
+    // the line rho = x cos + y sin: point closest to the origin, direction perpendicular to the normal
+    let l: Line | null = { px: rho * Math.cos(th), py: rho * Math.sin(th), ux: -Math.sin(th), uy: Math.cos(th) };
+    // refine: wide band first (the coarse angle can be off by 0.25 deg), then a narrow one about the fitted line
+    for (const band of [3, 1.5, 1.5]) {
+      const ns = collectNear(xs, ys, alive, l, band, sx, sy, support);
+      const f = fitLine(sx, sy, ns);
+      if (f === null) break;
+      l = f;
+    }
+    const ns = collectNear(xs, ys, alive, l, 1.5, sx, sy, support);
+    for (let q = 0; q < ns; q++) {
+      houghVote(acc, cosT, sinT, D, nRho, xs[support[q]!]!, ys[support[q]!]!, -1);
+      alive[support[q]!] = 0;
+    }
+    if (ns === 0) acc[bj] = 0;
+    else candidates.push({ line: toPixels(l, bin), blocks: ns, foundBy: 'hough' });
+  }
+  return candidates;
+}
+
 /**
  * Find satellite, aircraft and meteor trails (REFERENCE E.4).
  *
@@ -603,153 +805,14 @@ export function detectTrails(image: StarImage, options: DetectTrailsOptions): Tr
   const masks = buildMasks(sources, w, h, grow);
   const { means, bw, bh } = binnedMeans(image, background, masks, bin);
   const z = localZ(means, bw, bh);
-  const mask = new Uint8Array(bw * bh);
-  for (let i = 0; i < mask.length; i++) mask[i] = z[i]! >= k ? 1 : 0;
-  const { labels, count } = labelComponents(mask, bw, bh, 8);
-
-  // component extents and moments (block coordinates)
-  const cMinX = new Int32Array(count + 1).fill(bw);
-  const cMaxX = new Int32Array(count + 1).fill(-1);
-  const cMinY = new Int32Array(count + 1).fill(bh);
-  const cMaxY = new Int32Array(count + 1).fill(-1);
-  const cN = new Float64Array(count + 1);
-  const cSx = new Float64Array(count + 1);
-  const cSy = new Float64Array(count + 1);
-  const cSxx = new Float64Array(count + 1);
-  const cSyy = new Float64Array(count + 1);
-  const cSxy = new Float64Array(count + 1);
-  for (let y = 0; y < bh; y++) {
-    for (let x = 0; x < bw; x++) {
-      const c = labels[y * bw + x]!;
-      if (c === 0) continue;
-      if (x < cMinX[c]!) cMinX[c] = x;
-      if (x > cMaxX[c]!) cMaxX[c] = x;
-      if (y < cMinY[c]!) cMinY[c] = y;
-      if (y > cMaxY[c]!) cMaxY[c] = y;
-      cN[c]!++;
-      cSx[c]! += x;
-      cSy[c]! += y;
-      cSxx[c]! += x * x;
-      cSyy[c]! += y * y;
-      cSxy[c]! += x * y;
-    }
-  }
-  const keep = new Uint8Array(count + 1);
-  let nPts = 0;
-  for (let c = 1; c <= count; c++) {
-    if (Math.max(cMaxX[c]! - cMinX[c]!, cMaxY[c]! - cMinY[c]!) + 1 >= 3) {
-      keep[c] = 1;
-      nPts += cN[c]!;
-    }
-  }
-  const xs = new Float64Array(nPts);
-  const ys = new Float64Array(nPts);
-  let np = 0;
-  for (let y = 0; y < bh; y++) {
-    for (let x = 0; x < bw; x++) {
-      if (keep[labels[y * bw + x]!]) {
-        xs[np] = x;
-        ys[np] = y;
-        np++;
-      }
-    }
-  }
-
-  const toPixels = (l: Line): Line => ({ px: (l.px + 0.5) * bin - 0.5, py: (l.py + 0.5) * bin - 0.5, ux: l.ux, uy: l.uy });
-  const candidates: Array<{ line: Line; blocks: number; foundBy: 'hough' | 'component' }> = [];
-
-  // long, elongated groups of blocks
-  for (let c = 1; c <= count; c++) {
-    if (!keep[c]) continue;
-    const n = cN[c]!;
-    const mx = cSx[c]! / n;
-    const my = cSy[c]! / n;
-    const vxx = cSxx[c]! / n - mx * mx;
-    const vyy = cSyy[c]! / n - my * my;
-    const vxy = cSxy[c]! / n - mx * my;
-    const mean = (vxx + vyy) / 2;
-    const root = Math.sqrt(((vxx - vyy) / 2) ** 2 + vxy * vxy);
-    const a2 = mean + root;
-    const b2 = Math.max(mean - root, 1 / 12);
-    const lengthBlocks = Math.sqrt(12 * a2);
-    if (lengthBlocks * bin >= minLength && a2 / b2 >= 25) {
-      const t = 0.5 * Math.atan2(2 * vxy, vxx - vyy);
-      candidates.push({ line: toPixels({ px: mx, py: my, ux: Math.cos(t), uy: Math.sin(t) }), blocks: n, foundBy: 'component' });
-    }
-  }
-
-  // Hough accumulator over the kept blocks: theta in 0.5-degree steps, rho in 2-block bins (coarse, so that the
-  // peak scan stays cheap); each peak's line is then refined on its own blocks
-  const nTheta = 360;
-  const RB = 2;
-  const D = Math.ceil(Math.hypot(bw, bh) / RB) + 1;
-  const nRho = 2 * D + 1;
-  const cosT = new Float64Array(nTheta);
-  const sinT = new Float64Array(nTheta);
-  for (let t = 0; t < nTheta; t++) {
-    cosT[t] = Math.cos((Math.PI * t) / nTheta) / RB;
-    sinT[t] = Math.sin((Math.PI * t) / nTheta) / RB;
-  }
-  const acc = new Int32Array(nTheta * nRho);
-  const vote = (i: number, d: number): void => {
-    const x = xs[i]!;
-    const y = ys[i]!;
-    for (let t = 0, row = D; t < nTheta; t++, row += nRho) acc[row + Math.round(x * cosT[t]! + y * sinT[t]!)]! += d;
-  };
-  for (let i = 0; i < np; i++) vote(i, 1);
-  const alive = new Uint8Array(np).fill(1);
-  // a trail of minLength lights about minLength / bin blocks; allow for masked stretches, gaps and the coarse bins
-  const minVotes = Math.max(6, (0.4 * minLength) / bin);
-  const maxCandidates = 2 * maxTrails + 6;
-  const sx = new Float64Array(np);
-  const sy = new Float64Array(np);
-  const support = new Int32Array(np);
-  /** Alive blocks within `band` blocks of the line (block coordinates) into sx, sy, support; returns the count. */
-  const collect = (l: Line, band: number): number => {
-    let ns = 0;
-    const nx = -l.uy;
-    const ny = l.ux;
-    for (let i = 0; i < np; i++) {
-      if (!alive[i]) continue;
-      if (Math.abs((xs[i]! - l.px) * nx + (ys[i]! - l.py) * ny) <= band) {
-        support[ns] = i;
-        sx[ns] = xs[i]!;
-        sy[ns] = ys[i]!;
-        ns++;
-      }
-    }
-    return ns;
-  };
-  for (let round = 0; round < maxCandidates; round++) {
-    let best = 0;
-    let bj = -1;
-    for (let j = 0; j < acc.length; j++) {
-      if (acc[j]! > best) {
-        best = acc[j]!;
-        bj = j;
-      }
-    }
-    if (bj < 0 || best < minVotes) break;
-    const t = Math.floor(bj / nRho);
-    const rho = ((bj % nRho) - D) * RB;
-    const th = (Math.PI * t) / nTheta;
-    // the line rho = x cos + y sin: point closest to the origin, direction perpendicular to the normal
-    let l: Line | null = { px: rho * Math.cos(th), py: rho * Math.sin(th), ux: -Math.sin(th), uy: Math.cos(th) };
-    // refine: wide band first (the coarse angle can be off by 0.25 deg), then a narrow one about the fitted line
-    for (const band of [3, 1.5, 1.5]) {
-      const ns = collect(l, band);
-      const f = fitLine(sx, sy, ns);
-      if (f === null) break;
-      l = f;
-    }
-    const ns = collect(l, 1.5);
-    for (let q = 0; q < ns; q++) {
-      vote(support[q]!, -1);
-      alive[support[q]!] = 0;
-    }
-    if (ns === 0) acc[bj] = 0;
-    else candidates.push({ line: toPixels(l), blocks: ns, foundBy: 'hough' });
-  }
+  const { labels, count } = labelComponents(thresholdMask(z, k), bw, bh, 8);
+  const moments = blockMoments(labels, count, bw, bh);
+  const { xs, ys, keep } = keptBlocks(labels, moments, bw, bh);
+  const np = xs.length;
+  const candidates = [
+    ...componentCandidates(moments, keep, bin, minLength),
+    ...houghCandidates(xs, ys, bw, bh, bin, minLength, 2 * maxTrails + 6),
+  ];
 
   const trails: Trail[] = [];
   let checked = 0;

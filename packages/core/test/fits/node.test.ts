@@ -167,3 +167,28 @@ describe('node file access under damaged input (fast-check)', () => {
     );
   }, 60_000);
 });
+
+describe('readFitsFile(path, { reuseBuffer })', () => {
+  const path = join(dir, 'reuse.fits');
+  writeFileSync(path, fileBytes);
+
+  it('reads the first image into the spare buffer when it is large enough, with the same pixels and checksums', async () => {
+    const fresh = await readFitsFile(path);
+    const spare = new ArrayBuffer(1 << 20);
+    new Uint8Array(spare).fill(0xa5); // stale contents of an earlier frame
+    const reused = await readFitsFile(path, { reuseBuffer: spare });
+    expect(reused.hdus[0]!.image!.pixels.buffer).toBe(spare);
+    expect(Array.from(reused.hdus[0]!.image!.pixels as Uint16Array)).toEqual(Array.from(pixels));
+    expect(reused.hdus.map((h) => h.checksum)).toEqual(fresh.hdus.map((h) => h.checksum));
+    // only the first decoded image takes it; the second HDU gets its own memory
+    expect(reused.hdus[1]!.image!.pixels.buffer).not.toBe(spare);
+    expect(Array.from(reused.hdus[1]!.image!.pixels as Float32Array)).toEqual(Array.from(floats));
+  });
+
+  it('allocates fresh memory when the spare buffer is too small', async () => {
+    const small = new ArrayBuffer(16);
+    const read = await readFitsFile(path, { reuseBuffer: small });
+    expect(read.hdus[0]!.image!.pixels.buffer).not.toBe(small);
+    expect(Array.from(read.hdus[0]!.image!.pixels as Uint16Array)).toEqual(Array.from(pixels));
+  });
+});
