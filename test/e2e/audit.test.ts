@@ -125,3 +125,30 @@ describe('subgauge audit --jobs 2 (worker threads, built CLI)', () => {
     expect(JSON.parse(two.stdout)).toEqual(JSON.parse(one.stdout));
   }, 120_000);
 });
+
+describe('subgauge audit --jobs 2: the restarted pool process (built CLI)', () => {
+  const t = tempDir();
+  const session = path.join(t.dir, 'night');
+  afterAll(() => t.cleanup());
+  it('passes the exit code through, gives what an unrestarted run gives, and ends on SIGTERM with its child', async () => {
+    const { spawn, spawnSync } = await import('node:child_process');
+    const bin = path.resolve('packages/cli/dist/bin.js');
+    expect((await runCli(['simulate', session, '--seed', '4', '--width', '256', '--height', '192', '--quiet'])).code).toBe(0);
+    const run = (env: NodeJS.ProcessEnv, ...extra: string[]) =>
+      spawnSync(process.execPath, [bin, 'audit', session, '--json', '--jobs', '2', ...extra], { encoding: 'utf8', maxBuffer: 1 << 26, env: { ...process.env, ...env } });
+    const restarted = run({});
+    const direct = run({ SUBGAUGE_NO_RESTART: '1' });
+    expect(restarted.status, restarted.stderr).toBe(0);
+    expect(JSON.parse(restarted.stdout)).toEqual(JSON.parse(direct.stdout));
+    // the simulated night holds injected defects, so --fail-on review ends with exit code 1 in both
+    expect(run({}, '--fail-on', 'review').status).toBe(1);
+    expect(run({ SUBGAUGE_NO_RESTART: '1' }, '--fail-on', 'review').status).toBe(1);
+    const child = spawn(process.execPath, [bin, 'audit', session, '--jobs', '2', '--no-progress'], { stdio: 'ignore' });
+    // the run takes about a second; at 300 ms the restarted process is measuring, and the parent ends only
+    // after it, by the same signal
+    await new Promise((r) => setTimeout(r, 300));
+    child.kill('SIGTERM');
+    const [code, signal] = await new Promise<[number | null, string | null]>((resolve) => child.on('exit', (c, s) => resolve([c, s])));
+    expect({ code, signal }).toEqual({ code: null, signal: 'SIGTERM' });
+  }, 120_000);
+});

@@ -17,7 +17,7 @@ import { writeFileAtomic } from '@subgauge/core/node';
 import { type CliIo, EXIT_OK, EXIT_SOME_FAILED } from '../context.js';
 import type { Run } from '../main.js';
 import { failureOf, loadFrameHeader } from '../io/load.js';
-import { defaultJobs, runTasks } from '../io/pool.js';
+import { FramePool, defaultJobs } from '../io/pool.js';
 import { scanPaths } from '../io/scan.js';
 import { parsePositiveInt } from '../options.js';
 import { Progress } from '../render/progress.js';
@@ -75,6 +75,16 @@ async function readLimits(file: string | undefined): Promise<AuditLimits | undef
 
 /** Scan, sort by header kind, measure lights in the worker pool, audit the session. */
 export async function runAudit(paths: readonly string[], opts: AuditCliOptions, io: CliIo): Promise<AuditRun> {
+  // The pool's threads start up while the folder is scanned and the headers read.
+  const pool = new FramePool(opts.jobs ?? defaultJobs());
+  try {
+    return await auditWith(pool, paths, opts, io);
+  } finally {
+    await pool.destroy();
+  }
+}
+
+async function auditWith(pool: FramePool, paths: readonly string[], opts: AuditCliOptions, io: CliIo): Promise<AuditRun> {
   const limits = await readLimits(opts.limits);
   const { files, missing } = await scanPaths(paths);
   const unreadable: UnreadableFrame[] = missing.map((m) => ({ file: m.path, code: m.code, message: m.message, where: { file: m.path } }));
@@ -98,13 +108,12 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
       unreadable.push(f);
     }
   }
-  const jobs = opts.jobs ?? defaultJobs();
   const tasks: FrameTask[] = [
     ...lightFiles.map((file): FrameTask => ({ file, kind: 'light', ...read, ...(opts.thumbnails ? { thumbnailSize: 320 } : {}) })),
     ...calibration.filter((c) => c.kind === 'bias').map((c): FrameTask => ({ file: c.file, kind: 'calibration-median', ...read })),
   ];
   const progress = new Progress(io, opts.progress && !opts.quiet && !opts.json, 'measuring');
-  const results = await runTasks(tasks, jobs, (d, t) => progress.update(d, t));
+  const results = await pool.run(tasks, (d, t) => progress.update(d, t));
   progress.stop();
   const calibrationByFile = new Map(calibration.map((c) => [c.file, c]));
   const measured = new Map<string, FrameMetrics | UnreadableFrame>();
