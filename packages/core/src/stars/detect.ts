@@ -7,7 +7,7 @@ import { InvalidInputError } from '../errors.js';
 import { RunList, labelRuns } from './label.js';
 import { PROFILE_LAMBDAS, createMeasureContext, finishProfile, measureFootprint, measureRunsComponent, profileChiSquaresOf } from './measure.js';
 import type { MeasureContext, PendingSource } from './measure.js';
-import { backgroundAt, isLevelGrid, levelGridRow } from './levels.js';
+import { backgroundAt, gridColumnLevels, isLevelGrid, levelGridRow } from './levels.js';
 import type { BackgroundLevels, DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage, StarSource } from './types.js';
 
 /** Check a frame and its background/noise maps; throws InvalidInputError. */
@@ -74,13 +74,7 @@ function thresholdRaw(image: StarImage, background: BackgroundLevels, noise: Lev
     const kn = k * noise;
     for (let y = 0; y < h; y++) {
       const base = y * w;
-      const top = background.rowTop[y]! * background.columns;
-      const bottom = background.rowBottom[y]! * background.columns;
-      const ty = background.rowWeight[y]!;
-      for (let c = 0; c < background.columns; c++) {
-        const a = background.values[top + c]!;
-        colLevels[c] = a + (background.values[bottom + c]! - a) * ty;
-      }
+      gridColumnLevels(background, y, colLevels);
       let open = false;
       let x0 = 0;
       for (let sp = 0; sp < colSpans.length; sp += 3) {

@@ -8,19 +8,29 @@ export function isLevelGrid(b: BackgroundLevels): b is LevelGrid {
 }
 
 /**
- * Row y of a level grid into out[0..width), float32 values equal to those `renderMeshMap` writes into a
- * Float32Array (same arithmetic in the same order: interpolate down the grid columns, then across).
- * @param columnScratch at least `grid.columns` long
+ * The first step of reading row y of a level grid: each grid column interpolated down to row y, into
+ * out[0..columns). Row readers then interpolate across, span by span (see {@link levelGridRow}).
+ * @param out at least `grid.columns` long
  */
-export function levelGridRow(grid: LevelGrid, y: number, out: Float32Array, columnScratch: Float64Array): Float32Array {
-  const { values, columns, width, colSpans, colWeight } = grid;
+export function gridColumnLevels(grid: LevelGrid, y: number, out: Float64Array): void {
+  const { values, columns } = grid;
   const top = grid.rowTop[y]! * columns;
   const bottom = grid.rowBottom[y]! * columns;
   const ty = grid.rowWeight[y]!;
   for (let c = 0; c < columns; c++) {
     const a = values[top + c]!;
-    columnScratch[c] = a + (values[bottom + c]! - a) * ty;
+    out[c] = a + (values[bottom + c]! - a) * ty;
   }
+}
+
+/**
+ * Row y of a level grid into out[0..width), float32 values equal to those `renderMeshMap` writes into a
+ * Float32Array (same arithmetic in the same order: interpolate down the grid columns, then across).
+ * @param columnScratch at least `grid.columns` long
+ */
+export function levelGridRow(grid: LevelGrid, y: number, out: Float32Array, columnScratch: Float64Array): Float32Array {
+  const { width, colSpans, colWeight } = grid;
+  gridColumnLevels(grid, y, columnScratch);
   // run by run, so the inner loop reads only the weights
   for (let s = 0; s < colSpans.length; s += 3) {
     const end = s + 3 < colSpans.length ? colSpans[s + 3]! : width;

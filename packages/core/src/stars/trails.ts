@@ -7,7 +7,7 @@ import { InvalidInputError } from '../errors.js';
 import { checkStarImage } from './detect.js';
 import { labelComponents } from './label.js';
 import { medianAndMadSigma } from './select.js';
-import { backgroundAt, isLevelGrid } from './levels.js';
+import { backgroundAt, gridColumnLevels, isLevelGrid } from './levels.js';
 import type { BackgroundLevels, DetectTrailsOptions, LevelGrid, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
 
 /** Masked regions: disks about sources, plus boxes for saturated ones (bleeds), looked up through a coarse grid. */
@@ -127,14 +127,8 @@ function gridRowSums(
   sum: Float64Array,
   cnt: Int32Array,
 ): void {
-  const { colSpans, colWeight, columns, values, width: w } = grid;
-  const top = grid.rowTop[y]! * columns;
-  const bottom = grid.rowBottom[y]! * columns;
-  const ty = grid.rowWeight[y]!;
-  for (let c = 0; c < columns; c++) {
-    const a = values[top + c]!;
-    colLevels[c] = a + (values[bottom + c]! - a) * ty;
-  }
+  const { colSpans, colWeight, width: w } = grid;
+  gridColumnLevels(grid, y, colLevels);
   let bx = 0;
   let edge = Math.min(w, bin);
   let s = 0;

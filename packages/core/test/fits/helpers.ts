@@ -53,3 +53,16 @@ export function thrown(f: () => unknown): unknown {
 export function hex(bytes: Uint8Array): string {
   return Array.from(bytes, (b) => b.toString(16).padStart(2, '0')).join('');
 }
+
+/** Seeded bytes (xorshift32) for data regions. */
+export function seededBytes(n: number, seed: number): Uint8Array {
+  const out = new Uint8Array(n);
+  let s = seed >>> 0 || 1;
+  for (let i = 0; i < n; i++) {
+    s ^= s << 13;
+    s ^= s >>> 17;
+    s ^= s << 5;
+    out[i] = s & 0xff;
+  }
+  return out;
+}

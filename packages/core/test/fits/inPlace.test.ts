@@ -1,19 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { encodeFits, parseFits } from '../../src/fits/index.js';
-import { concat, dataBytes, headerBytes, imageFile } from './helpers.js';
-
-/** Seeded bytes (xorshift32). */
-function seededBytes(n: number, seed: number): Uint8Array {
-  const out = new Uint8Array(n);
-  let s = seed >>> 0 || 1;
-  for (let i = 0; i < n; i++) {
-    s ^= s << 13;
-    s ^= s >>> 17;
-    s ^= s << 5;
-    out[i] = s & 0xff;
-  }
-  return out;
-}
+import { concat, dataBytes, headerBytes, imageFile, seededBytes } from './helpers.js';
 
 const conventions: { name: string; bitpix: number; extra: string[] }[] = [
   { name: 'uint8', bitpix: 8, extra: [] },

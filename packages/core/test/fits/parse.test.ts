@@ -5,26 +5,13 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { FitsFormatError, InvalidInputError } from '../../src/errors.js';
 import { encodeFits, imageHdus, paddedLength, parseFits } from '../../src/fits/index.js';
 import { astropyReadAll, astropyValues, firstDifference, haveAstropy } from './astropyRef.js';
-import { concat, dataBytes, headerBytes, imageFile, thrown } from './helpers.js';
+import { concat, dataBytes, headerBytes, imageFile, seededBytes, thrown } from './helpers.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'subgauge-fits-parse-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 const image = (bytes: Uint8Array) => parseFits(bytes).hdus[0]!.image!;
 const values = (bytes: Uint8Array) => Array.from(image(bytes).pixels as ArrayLike<number>);
-
-/** Seeded bytes (xorshift32) for data regions. */
-function seededBytes(n: number, seed: number): Uint8Array {
-  const out = new Uint8Array(n);
-  let s = seed >>> 0 || 1;
-  for (let i = 0; i < n; i++) {
-    s ^= s << 13;
-    s ^= s >>> 17;
-    s ^= s << 5;
-    out[i] = s & 0xff;
-  }
-  return out;
-}
 
 describe('data layout (FITS 3.0 §3.3.2, eq. 4.1)', () => {
   it('paddedLength(20000) is 7 blocks with 160 pad bytes for 100x100 BITPIX 16 (G row 2)', () => {
