@@ -420,6 +420,17 @@ function medianFilter3(values: Float64Array, columns: number, rows: number): Flo
   return out;
 }
 
+/** Placeholder of a mesh under construction (never returned). */
+const NO_GRADIENT: MeshGradient = {
+  centreLevelAdu: Number.NaN,
+  slopeXAduPerPixel: Number.NaN,
+  slopeYAduPerPixel: Number.NaN,
+  rangeAdu: Number.NaN,
+  percent: Number.NaN,
+  directionDegrees: Number.NaN,
+  boxCount: 0,
+};
+
 function fitPlane(mesh: Omit<BackgroundMesh, 'gradient'>, offsetAdu: number): MeshGradient {
   const { columns, rows, centresX, centresY, levelAdu, valid, width, height } = mesh;
   const xc = (width - 1) / 2;
@@ -576,7 +587,9 @@ export function backgroundMesh(view: FrameView, opts: BackgroundMeshOptions = {}
     if (v > hi) hi = v;
   }
   const offsetAdu = opts.offsetAdu ?? 0;
-  const partial = {
+  // One object literal of fixed shape, the gradient filled in after: a spread copy would give every frame's
+  // mesh a new hidden class, and optimized code reading it would be thrown away frame after frame.
+  const mesh: BackgroundMesh = {
     width,
     height,
     boxWidth,
@@ -593,23 +606,39 @@ export function backgroundMesh(view: FrameView, opts: BackgroundMeshOptions = {}
     medianLevelAdu,
     medianNoiseAdu,
     meshRangePercent: validCount > 0 ? (100 * (hi - lo)) / (medianLevelAdu - offsetAdu) : Number.NaN,
-    pixels: { ...tally, saturatedCount },
+    pixels: {
+      totalCount: tally.totalCount,
+      validCount: tally.validCount,
+      nanCount: tally.nanCount,
+      infiniteCount: tally.infiniteCount,
+      blankCount: tally.blankCount,
+      maskedCount: tally.maskedCount,
+      saturatedCount,
+    },
+    gradient: NO_GRADIENT,
   };
-  return { ...partial, gradient: fitPlane(partial, offsetAdu) };
+  mesh.gradient = fitPlane(mesh, offsetAdu);
+  return mesh;
 }
 
-/** Grid cell and weight for a coordinate: centres[j] <= p <= centres[j + 1] (clamped outside the centres). */
-function cellOf(centres: Float64Array, box: number, p: number): [number, number] {
+/** Grid cell for a coordinate: centres[j] <= p <= centres[j + 1] (clamped outside the centres). */
+function cellIndex(centres: Float64Array, box: number, p: number): number {
   const n = centres.length;
-  if (n === 1) return [0, 0];
-  const c0 = centres[0] as number;
-  let j = Math.floor((p - c0) / box);
-  if (j < 0) return [0, 0];
-  if (j > n - 2) j = n - 2;
+  if (n === 1) return 0;
+  const j = Math.floor((p - (centres[0] as number)) / box);
+  return j < 0 ? 0 : j > n - 2 ? n - 2 : j;
+}
+
+/**
+ * Weight of centres[j + 1] at p, in [0, 1], for j = cellIndex(centres, box, p). Kept apart from cellIndex so the
+ * per-pixel setup loops return plain numbers: a returned [j, t] pair is an array whose elements kind flips
+ * between integer and double with t, and V8 then re-optimizes its callers ("wrong map").
+ */
+function cellWeight(centres: Float64Array, j: number, p: number): number {
+  if (centres.length === 1 || p < (centres[0] as number)) return 0;
   const a = centres[j] as number;
-  const b = centres[j + 1] as number;
-  const t = (p - a) / (b - a);
-  return [j, t > 1 ? 1 : t];
+  const t = (p - a) / ((centres[j + 1] as number) - a);
+  return t > 1 ? 1 : t;
 }
 
 /**
@@ -620,8 +649,10 @@ function cellOf(centres: Float64Array, box: number, p: number): [number, number]
  */
 export function meshLevelAt(mesh: BackgroundMesh, x: number, y: number, which: 'level' | 'noise' = 'level'): number {
   const grid = which === 'noise' ? mesh.noiseAdu : mesh.levelAdu;
-  const [j, tx] = cellOf(mesh.centresX, mesh.boxWidth, x);
-  const [i, ty] = cellOf(mesh.centresY, mesh.boxHeight, y);
+  const j = cellIndex(mesh.centresX, mesh.boxWidth, x);
+  const tx = cellWeight(mesh.centresX, j, x);
+  const i = cellIndex(mesh.centresY, mesh.boxHeight, y);
+  const ty = cellWeight(mesh.centresY, i, y);
   const cols = mesh.columns;
   const j1 = Math.min(j + 1, cols - 1);
   const i1 = Math.min(i + 1, mesh.rows - 1);
@@ -653,13 +684,14 @@ export function renderMeshMap(
   const colJ = new Int32Array(width);
   const colT = new Float64Array(width);
   for (let x = 0; x < width; x++) {
-    const [j, t] = cellOf(mesh.centresX, mesh.boxWidth, x);
+    const j = cellIndex(mesh.centresX, mesh.boxWidth, x);
     colJ[x] = j;
-    colT[x] = t;
+    colT[x] = cellWeight(mesh.centresX, j, x);
   }
   const row = new Float64Array(columns);
   for (let y = 0; y < height; y++) {
-    const [i, ty] = cellOf(mesh.centresY, mesh.boxHeight, y);
+    const i = cellIndex(mesh.centresY, mesh.boxHeight, y);
+    const ty = cellWeight(mesh.centresY, i, y);
     const i1 = Math.min(i + 1, mesh.rows - 1);
     for (let c = 0; c < columns; c++) {
       const a = grid[i * columns + c] as number;
@@ -683,15 +715,15 @@ export function renderMeshMap(
  * @param which 'level' (default) or 'noise'
  */
 export function meshLevelGrid(mesh: BackgroundMesh, which: 'level' | 'noise' = 'level'): LevelGrid {
-  const { width, height, columns, rows } = mesh;
+  const { width, height, columns, rows, centresX, centresY, boxWidth, boxHeight } = mesh;
   const colLeft = new Int32Array(width);
   const colRight = new Int32Array(width);
   const colWeight = new Float64Array(width);
   for (let x = 0; x < width; x++) {
-    const [j, t] = cellOf(mesh.centresX, mesh.boxWidth, x);
+    const j = cellIndex(centresX, boxWidth, x);
     colLeft[x] = j;
     colRight[x] = Math.min(j + 1, columns - 1);
-    colWeight[x] = t;
+    colWeight[x] = cellWeight(centresX, j, x);
   }
   const spans: number[] = [];
   for (let x = 0; x < width; x++) {
@@ -701,10 +733,10 @@ export function meshLevelGrid(mesh: BackgroundMesh, which: 'level' | 'noise' = '
   const rowBottom = new Int32Array(height);
   const rowWeight = new Float64Array(height);
   for (let y = 0; y < height; y++) {
-    const [i, t] = cellOf(mesh.centresY, mesh.boxHeight, y);
+    const i = cellIndex(centresY, boxHeight, y);
     rowTop[y] = i;
     rowBottom[y] = Math.min(i + 1, rows - 1);
-    rowWeight[y] = t;
+    rowWeight[y] = cellWeight(centresY, i, y);
   }
   return {
     kind: 'level-grid',
