@@ -9,7 +9,7 @@ import path from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { toResultDocuments } from '../../packages/cli/src/commands/report.js';
+import { toResultDocuments } from '../../packages/cli/src/commands/reportFiles.js';
 import { renderReport } from '../../packages/cli/src/render/html/report.js';
 import { decodePng } from '../../packages/cli/test/render/pngPixels.js';
 import { sampleSession } from '../../packages/cli/test/render/samples.js';

@@ -1,6 +1,6 @@
 #!/usr/bin/env node
 import { spawn } from 'node:child_process';
-import { POOL_V8_FLAG, poolEnvironment, wantsPoolRestart } from './launch.js';
+import { POOL_V8_FLAG, poolEnvironment, poolThreads, wantsPoolRestart } from './launch.js';
 
 if (wantsPoolRestart(process.argv, process.execArgv, process.env)) {
   // Run the same command in a process with the pool's V8 and malloc settings; this one only waits and passes signals on.
@@ -20,6 +20,10 @@ if (wantsPoolRestart(process.argv, process.execArgv, process.env)) {
     process.exitCode = code ?? 1;
   });
 } else {
+  const threads = poolThreads(process.argv);
+  const pool = threads === undefined ? undefined : await import('./io/pool.js');
+  pool?.startPoolEarly(threads!);
   const { main } = await import('./main.js');
   process.exitCode = await main(process.argv);
+  await pool?.discardEarlyPool();
 }

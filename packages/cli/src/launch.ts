@@ -34,6 +34,19 @@ function jobsOf(args: readonly string[]): number | undefined {
 }
 
 /**
+ * The worker threads this invocation's pool will run: the --jobs value (default the core count) of an audit or
+ * demo run, when it is two or more; undefined for other commands, help, one-thread runs and --jobs values the
+ * option parser will refuse (the error then comes from one process).
+ */
+export function poolThreads(argv: readonly string[]): number | undefined {
+  const args = argv.slice(2);
+  const command = args.find((a) => !a.startsWith('-'));
+  if (command === undefined || !POOL_COMMANDS.has(command) || args.includes('--help') || args.includes('-h')) return undefined;
+  const jobs = jobsOf(args) ?? Math.max(1, os.availableParallelism?.() ?? os.cpus().length);
+  return jobs >= 2 ? jobs : undefined; // NaN >= 2 is false
+}
+
+/**
  * Whether this invocation should run in a process started with {@link POOL_V8_FLAG}. When two or more worker
  * threads measure frames, they fill the cores, and V8's own helper threads (background compiling and garbage
  * collection) only compete with them; each worker then does better to compile and collect in its own thread
@@ -41,9 +54,5 @@ function jobsOf(args: readonly string[]): number | undefined {
  */
 export function wantsPoolRestart(argv: readonly string[], execArgv: readonly string[], env: NodeJS.ProcessEnv): boolean {
   if (execArgv.includes(POOL_V8_FLAG) || env[NO_RESTART_ENV] === '1') return false;
-  const args = argv.slice(2);
-  const command = args.find((a) => !a.startsWith('-'));
-  if (command === undefined || !POOL_COMMANDS.has(command) || args.includes('--help') || args.includes('-h')) return false;
-  const jobs = jobsOf(args) ?? Math.max(1, os.availableParallelism?.() ?? os.cpus().length);
-  return jobs >= 2; // NaN (a value the option parser will refuse): no restart, the error comes from this process
+  return poolThreads(argv) !== undefined;
 }

@@ -17,15 +17,14 @@ import { writeFileAtomic } from '@subgauge/core/node';
 import { type CliIo, EXIT_OK, EXIT_SOME_FAILED } from '../context.js';
 import type { Run } from '../main.js';
 import { failureOf, loadFrameHeader } from '../io/load.js';
-import { FramePool, defaultJobs } from '../io/pool.js';
+import { type FramePool, defaultJobs, openFramePool } from '../io/pool.js';
 import { scanPaths } from '../io/scan.js';
 import { parsePositiveInt } from '../options.js';
 import { Progress } from '../render/progress.js';
 import { auditCsv, renderAuditText } from '../render/audit.js';
 import type { FrameTask, Thumbnail } from '../workers/frameTask.js';
 import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
-import { writeHtmlReport } from './report.js';
-import { thumbnailPng, type ReportBackgroundMap, type ReportThumbnail } from '../render/html/index.js';
+import type { ReportBackgroundMap, ReportThumbnail } from '../render/html/index.js';
 
 export interface AuditCliOptions extends CommonOptions {
   limits?: string;
@@ -42,7 +41,8 @@ export interface AuditRun {
 }
 
 /** Thumbnails (PNG, faint-sky stretch) of the review and reject frames and the background map, for the HTML report. */
-export function auditReportExtras(run: AuditRun): { thumbnails: ReportThumbnail[]; backgroundMap?: ReportBackgroundMap } {
+export async function auditReportExtras(run: AuditRun): Promise<{ thumbnails: ReportThumbnail[]; backgroundMap?: ReportBackgroundMap }> {
+  const { thumbnailPng } = await import('../render/html/thumbnail.js');
   const thumbnails: ReportThumbnail[] = [];
   for (const f of run.result.frames) {
     const t = run.thumbnails.get(f.file);
@@ -75,8 +75,8 @@ async function readLimits(file: string | undefined): Promise<AuditLimits | undef
 
 /** Scan, sort by header kind, measure lights in the worker pool, audit the session. */
 export async function runAudit(paths: readonly string[], opts: AuditCliOptions, io: CliIo): Promise<AuditRun> {
-  // The pool's threads start up while the folder is scanned and the headers read.
-  const pool = new FramePool(opts.jobs ?? defaultJobs());
+  // The pool's threads start up while the folder is scanned and the headers read (or earlier: bin.ts).
+  const pool = openFramePool(opts.jobs ?? defaultJobs());
   try {
     return await auditWith(pool, paths, opts, io);
   } finally {
@@ -176,7 +176,8 @@ Examples:
       const run = await runAudit(paths, { ...opts, thumbnails: Boolean(opts.html) }, io);
       const { result } = run;
       if (opts.html) {
-        const written = await writeHtmlReport(opts.html, [result], { title: 'Session audit', generatedAt: new Date().toISOString(), ...auditReportExtras(run) });
+        const { writeHtmlReport } = await import('./reportFiles.js'); // the HTML renderer loads only when asked for
+        const written = await writeHtmlReport(opts.html, [result], { title: 'Session audit', generatedAt: new Date().toISOString(), ...(await auditReportExtras(run)) });
         if (!opts.quiet) io.stderr(`report: ${written}\n`);
       }
       if (opts.csv) await writeFileAtomic(opts.csv, new TextEncoder().encode(auditCsv(result)));

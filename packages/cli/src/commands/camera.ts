@@ -16,7 +16,6 @@ import { toJson } from '../render/json.js';
 import { Progress } from '../render/progress.js';
 import { renderCameraSummary, renderFailures } from '../render/camera.js';
 import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
-import { writeHtmlReport } from './report.js';
 
 interface CameraCliOptions extends CommonOptions {
   kind: string[];
@@ -107,6 +106,7 @@ Examples:
       }
       const doc = { ...result, unreadable: failures };
       if (opts.html) {
+        const { writeHtmlReport } = await import('./reportFiles.js'); // the HTML renderer loads only when asked for
         const written = await writeHtmlReport(opts.html, [result], { title: 'Camera characterization', generatedAt: new Date().toISOString() });
         if (!opts.quiet) io.stderr(`report: ${written}\n`);
       }

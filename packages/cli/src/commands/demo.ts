@@ -13,7 +13,6 @@ import { fmtSig, renderTable } from '../render/table.js';
 import { runCamera } from './camera.js';
 import { runSky } from './sky.js';
 import { auditReportExtras, runAudit } from './audit.js';
-import { writeHtmlReport } from './report.js';
 import { writeSimulatedSession } from './simulate.js';
 
 interface DemoOptions {
@@ -109,10 +108,11 @@ export function demoCommand(io: CliIo, setRun: (run: Run) => void): Command {
       }
       io.stdout(`   ${caught} of ${injected.length} injected defects caught with the expected reason\n\n`);
 
+      const { writeHtmlReport } = await import('./reportFiles.js'); // the HTML renderer loads only when asked for
       const report = await writeHtmlReport(path.join(dir, 'report.html'), [camera, sky, r], {
         title: `subgauge demo: ${truth.camera.name} at ${truth.site.observatory}`,
         generatedAt: new Date().toISOString(),
-        ...auditReportExtras(audit),
+        ...(await auditReportExtras(audit)),
       });
       io.stdout(`5. report: ${p.bold(report)}\n   (self-contained HTML: open it in any browser, no network needed)\n\n`);
       io.stdout(`Results (JSON): ${path.join(dir, 'camera.json')}, ${path.join(dir, 'sky.json')}, ${path.join(dir, 'audit.json')}\n`);

@@ -27,7 +27,6 @@ import { renderFailures } from '../render/camera.js';
 import { renderSkyText, skyCsv } from '../render/sky.js';
 import { writeFileAtomic } from '@subgauge/core/node';
 import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
-import { writeHtmlReport } from './report.js';
 
 export interface SkyCliOptions extends CommonOptions {
   camera?: string;
@@ -208,6 +207,7 @@ Examples:
       }
       if (opts.csv) await writeFileAtomic(opts.csv, new TextEncoder().encode(skyCsv(doc.subs)));
       if (opts.html) {
+        const { writeHtmlReport } = await import('./reportFiles.js'); // the HTML renderer loads only when asked for
         const written = await writeHtmlReport(opts.html, [doc], { title: 'Sky-limited check', generatedAt: new Date().toISOString() });
         if (!opts.quiet) io.stderr(`report: ${written}\n`);
       }

@@ -47,3 +47,31 @@ export class FramePool {
     await this.pool?.destroy();
   }
 }
+
+// A pool started before the command modules load (bin.ts), waiting for the command that will use it.
+let early: FramePool | undefined;
+
+/**
+ * Start the worker threads of a pool run now, while the rest of the program is still loading: the threads boot
+ * and load their modules on the other core instead of after the command has parsed its options.
+ */
+export function startPoolEarly(jobs: number): FramePool {
+  early ??= new FramePool(jobs);
+  return early;
+}
+
+/** A pool of `jobs` workers: the one started early if it has that many, else a new one. The caller destroys it. */
+export function openFramePool(jobs: number): FramePool {
+  const pool = early;
+  early = undefined;
+  if (pool !== undefined && pool.jobs === jobs) return pool;
+  void pool?.destroy();
+  return new FramePool(jobs);
+}
+
+/** Destroy an early pool no command took (a usage error, or a run that ended before measuring). */
+export async function discardEarlyPool(): Promise<void> {
+  const pool = early;
+  early = undefined;
+  await pool?.destroy();
+}

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { toResultDocuments } from '../../src/commands/report.js';
+import { toResultDocuments } from '../../src/commands/reportFiles.js';
 import { renderReport } from '../../src/render/html/report.js';
 import { sampleSession } from './samples.js';
 import { attributesOf, linePoints, plotSvg, seriesOf } from './svgData.js';

@@ -3,7 +3,8 @@ import os from 'node:os';
 import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { CliIo } from '../../src/context.js';
-import { reportCommand, writeHtmlReport } from '../../src/commands/report.js';
+import { reportCommand } from '../../src/commands/report.js';
+import { writeHtmlReport } from '../../src/commands/reportFiles.js';
 import type { Run } from '../../src/main.js';
 
 const dir = mkdtempSync(path.join(os.tmpdir(), 'subgauge-report-'));

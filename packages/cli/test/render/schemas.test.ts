@@ -1,7 +1,7 @@
 import { CoreError } from '@subgauge/core';
 import { describe, expect, it } from 'vitest';
 import { parseResultDocument } from '../../src/schemas/index.js';
-import { toResultDocuments } from '../../src/commands/report.js';
+import { toResultDocuments } from '../../src/commands/reportFiles.js';
 
 function failure(value: unknown, file = 'r.json'): CoreError {
   try {
