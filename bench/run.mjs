@@ -185,7 +185,7 @@ function jobsBench() {
     const ratios = out.map((p) => p.ratio).sort((a, b) => a - b);
     return { pairs: out, medianRatio: ratios[Math.floor(ratios.length / 2)] };
   };
-  return { frames: 20, main: pairs(frameDir, 5), noise: pairs(noiseDir, 3) };
+  return { frames: 20, main: pairs(frameDir, 7), noise: pairs(noiseDir, 3) };
 }
 
 function report(results, p6, p5, cam) {

@@ -20,10 +20,11 @@ if (wantsPoolRestart(process.argv, process.execArgv, process.env)) {
     process.exitCode = code ?? 1;
   });
 } else {
+  // A pool run starts its worker threads first: they boot on the other core while the commands load.
   const threads = poolThreads(process.argv);
-  const pool = threads === undefined ? undefined : await import('./io/pool.js');
-  pool?.startPoolEarly(threads!);
+  const poolModule = threads === undefined ? undefined : await import('./io/pool.js');
+  if (threads !== undefined) poolModule?.startPoolEarly(threads);
   const { main } = await import('./main.js');
   process.exitCode = await main(process.argv);
-  await pool?.discardEarlyPool();
+  await poolModule?.discardEarlyPool();
 }
