@@ -101,7 +101,8 @@ const isShortInteger = (d: NumericPixels): boolean => d instanceof Uint16Array |
 const DIFF_OFFSET = 65535;
 let diffCounts: Int32Array | undefined;
 
-function differenceMedianByHistogram(a: PixelView, b: PixelView): number {
+/** Count the differences A − B of two <= 16-bit integer views into the shared histogram (index d + DIFF_OFFSET). */
+function differenceHistogram(a: PixelView, b: PixelView): Int32Array {
   const counts = (diffCounts ??= new Int32Array(2 * DIFF_OFFSET + 1));
   counts.fill(0);
   const da = a.data, db = b.data;
@@ -112,7 +113,11 @@ function differenceMedianByHistogram(a: PixelView, b: PixelView): number {
       ia += a.strideX; ib += b.strideX;
     }
   }
-  const n = a.width * a.height;
+  return counts;
+}
+
+/** The exact median of the n differences counted in `counts` (mean of the two middle values for an even n). */
+function histogramMedian(counts: Int32Array, n: number): number {
   const kLow = (n - 1) >>> 1, kHigh = n >>> 1; // 0-based ranks of the middle value(s)
   let seen = 0, low = NaN;
   for (let v = 0; v < counts.length; v++) {
@@ -123,6 +128,32 @@ function differenceMedianByHistogram(a: PixelView, b: PixelView): number {
     seen += c;
   }
   return NaN;
+}
+
+/**
+ * Count, sum and sum of squares of (d − shift) over the counted differences d in [lo, hi]. With integer d and
+ * shift these are sums of integers, exact while below 2^53, so they equal pairPass's own sums bit for bit.
+ */
+function histogramDifferenceSums(counts: Int32Array, lo: number, hi: number, shift: number, out: Float64Array): void {
+  const first = Math.max(0, Math.ceil(lo) + DIFF_OFFSET);
+  const last = Math.min(counts.length - 1, Math.floor(hi) + DIFF_OFFSET);
+  let n = 0, d1 = 0, d2 = 0;
+  for (let v = first; v <= last; v++) {
+    const c = counts[v]!;
+    if (c === 0) continue;
+    const cd = v - DIFF_OFFSET - shift;
+    n += c; d1 += c * cd; d2 += c * cd * cd;
+  }
+  out[0] = n; out[1] = d1; out[2] = d2;
+}
+
+/** Largest |d − shift| over the counted differences (0 when none). */
+function histogramReach(counts: Int32Array, shift: number): number {
+  let first = 0, last = counts.length - 1;
+  while (first <= last && counts[first] === 0) first++;
+  while (last >= first && counts[last] === 0) last--;
+  if (first > last) return 0;
+  return Math.max(Math.abs(first - DIFF_OFFSET - shift), Math.abs(last - DIFF_OFFSET - shift));
 }
 
 /**
@@ -145,20 +176,43 @@ export function pairStatistics(a: PixelView, b: PixelView, options: PairStatisti
   const all = pairPass(a, b, -Infinity, Infinity);
   const clipSigma = options.clipSigma === undefined ? 5 : options.clipSigma;
   if (clipSigma === null || all.pixelCount < 3) return { ...all, clipped: null };
-  const total = a.width * a.height;
-  const scratch = options.scratch && options.scratch.length >= total ? options.scratch : new Float32Array(total);
-  const median = isShortInteger(a.data) && isShortInteger(b.data) ? differenceMedianByHistogram(a, b) : medianInPlace(scratch, fillDifferences(a, b, scratch));
   const maxIterations = options.maxIterations ?? 10;
   let sigma = Math.sqrt(all.differenceVariance);
   let current = all;
   let iterations = 0;
-  while (iterations < maxIterations && sigma > 0) {
-    const next = pairPass(a, b, median - clipSigma * sigma, median + clipSigma * sigma);
-    iterations++;
-    const changed = next.pixelCount !== current.pixelCount;
-    current = next;
-    if (!changed || next.pixelCount < 3) break;
-    sigma = Math.sqrt(next.differenceVariance);
+  let median: number;
+  const counts = isShortInteger(a.data) && isShortInteger(b.data) ? differenceHistogram(a, b) : undefined;
+  const shiftD = counts === undefined ? 0 : a.data[a.offset]! - b.data[b.offset]!;
+  const n = all.pixelCount;
+  if (counts !== undefined && n * histogramReach(counts, shiftD) ** 2 <= 2 ** 53) {
+    // Integer pair: the difference moments of every clipping window come from the histogram, exactly as a pass
+    // over the pixels would give them; only the final window needs a pass (for the means and variances of A, B).
+    median = histogramMedian(counts, n);
+    const sums = new Float64Array(3);
+    let count = n, lo = -Infinity, hi = Infinity;
+    while (iterations < maxIterations && sigma > 0) {
+      lo = median - clipSigma * sigma;
+      hi = median + clipSigma * sigma;
+      histogramDifferenceSums(counts, lo, hi, shiftD, sums);
+      iterations++;
+      const changed = sums[0] !== count;
+      count = sums[0]!;
+      if (!changed || count < 3) break;
+      sigma = Math.sqrt(Math.max(0, sums[2]! - (sums[1]! * sums[1]!) / count) / (count - 1)); // as pairPass
+    }
+    if (iterations > 0) current = pairPass(a, b, lo, hi);
+  } else {
+    const total = a.width * a.height;
+    const scratch = options.scratch && options.scratch.length >= total ? options.scratch : new Float32Array(total);
+    median = counts !== undefined ? histogramMedian(counts, n) : medianInPlace(scratch, fillDifferences(a, b, scratch));
+    while (iterations < maxIterations && sigma > 0) {
+      const next = pairPass(a, b, median - clipSigma * sigma, median + clipSigma * sigma);
+      iterations++;
+      const changed = next.pixelCount !== current.pixelCount;
+      current = next;
+      if (!changed || next.pixelCount < 3) break;
+      sigma = Math.sqrt(next.differenceVariance);
+    }
   }
   return {
     ...all,

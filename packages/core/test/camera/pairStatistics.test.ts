@@ -156,4 +156,49 @@ describe('pairStatistics difference median on 16-bit integers', () => {
       expect(ints).toEqual(floats);
     }
   });
+
+  // The integer path takes every clipping window's difference moments from the histogram and makes one pass at
+  // the end; the float path makes a pass per window. Both must agree bit for bit (sums of integers are exact).
+  const noisyPair = (w: number, h: number, seed: number, spikes: number) => {
+    const a = new Uint16Array(w * h);
+    const b = new Uint16Array(w * h);
+    let s = seed;
+    const next = () => ((s = (s * 1103515245 + 12345) >>> 0) >>> 16) / 65536;
+    for (let i = 0; i < a.length; i++) {
+      const gauss = (next() + next() + next() + next() - 2) * 30; // sum of uniforms, sigma ~ 17
+      a[i] = Math.round(2000 + gauss);
+      b[i] = Math.round(2000 + (next() + next() + next() + next() - 2) * 30);
+      if (next() < spikes) a[i] = Math.min(65535, a[i]! + Math.round(200 + next() * 5000)); // cosmic-ray hits
+    }
+    return { a, b };
+  };
+
+  it('pairStatistics(uint16 pair) iterating its clip on the histogram equals the per-window passes (full, strided, Int16)', () => {
+    let iterated = 0;
+    for (const [w, h, seed, spikes] of [[200, 150, 7, 0.01], [97, 61, 8, 0.05], [64, 64, 9, 0]] as const) {
+      const { a, b } = noisyPair(w, h, seed, spikes);
+      const full = (d: ArrayLike<number> & { length: number }) => ({ data: d as Uint16Array, width: w, height: h, strideX: 1, strideY: w, offset: 0 });
+      const plane = (d: ArrayLike<number> & { length: number }) => ({ data: d as Uint16Array, width: Math.floor(w / 2), height: Math.floor(h / 2), strideX: 2, strideY: 2 * w, offset: w + 1 });
+      for (const view of [full, plane]) {
+        const ints = pairStatistics(view(a), view(b));
+        expect(ints).toEqual(pairStatistics(view(Float64Array.from(a)), view(Float64Array.from(b))));
+        if ((ints.clipped?.iterations ?? 0) > 1) iterated++;
+        const i16 = pairStatistics(view(Int16Array.from(a, (v) => v - 2000)), view(Int16Array.from(b, (v) => v - 2000)));
+        expect(i16.clipped?.differenceVariance).toBe(ints.clipped?.differenceVariance);
+        expect(i16.clipped?.rejectedCount).toBe(ints.clipped?.rejectedCount);
+      }
+    }
+    expect(iterated).toBeGreaterThan(0); // the clipping loop ran more than once somewhere
+  });
+
+  it('pairStatistics(uint16 pair) whose integer sums could pass 2^53 falls back to per-window passes', () => {
+    const w = 1600, h = 1500; // n * 65535^2 > 2^53
+    const { a, b } = noisyPair(w, h, 11, 0.001);
+    a[0] = 65535;
+    b[0] = 0;
+    const view = (d: Uint16Array | Float64Array) => ({ data: d, width: w, height: h, strideX: 1, strideY: w, offset: 0 });
+    const ints = pairStatistics(view(a), view(b));
+    expect(ints).toEqual(pairStatistics(view(Float64Array.from(a)), view(Float64Array.from(b))));
+    expect(ints.clipped?.rejectedCount).toBeGreaterThan(0);
+  });
 });
