@@ -2,7 +2,9 @@ import { existsSync } from 'node:fs';
 import os from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
-import { runFrameTask, type FrameTask, type FrameTaskResult } from '../workers/frameTask.js';
+// Only a type here: the frame code loads in the threads that run it (in this one only for an in-process run), so
+// a pool's threads need not wait for this thread to load it before they start.
+import type { FrameTask, FrameTaskResult } from '../workers/frameTask.js';
 
 /** Default worker count: the machine's cores (DESIGN section 2, `--jobs`). */
 export function defaultJobs(): number {
@@ -28,6 +30,7 @@ export class FramePool {
     let done = 0;
     const pool = this.pool;
     if (pool === undefined || tasks.length <= 1) {
+      const { runFrameTask } = await import('../workers/frameTask.js');
       for (let i = 0; i < tasks.length; i++) {
         results[i] = await runFrameTask(tasks[i]!);
         onDone?.(++done, tasks.length);
