@@ -174,18 +174,30 @@ function jobsBench() {
     if (r.status !== 0 && r.status !== 1) throw new Error(`audit --jobs ${jobs} ${dir} exited ${r.status}`);
     return performance.now() - t0;
   };
-  const pairs = (dir, n) => {
+  // The control: fixed CPU work in one thread against the same work split over two (bench/scaling.mjs), run
+  // beside each audit pair, so the machine's own two-thread speed-up at that moment stands next to ours.
+  const scaling = path.join(here, 'scaling.mjs');
+  const control = (threads, units) => Number(run(process.execPath, [scaling, String(threads), String(units)]).stdout.trim());
+  const median = (values) => [...values].sort((a, b) => a - b)[Math.floor(values.length / 2)];
+  const pairs = (dir, n, withControl) => {
     time(dir, 1); // page cache and disk warm
     const out = [];
     for (let i = 0; i < n; i++) {
       const one = time(dir, 1);
       const two = time(dir, 2);
-      out.push({ jobs1Ms: one, jobs2Ms: two, ratio: one / two });
+      const pair = { jobs1Ms: one, jobs2Ms: two, ratio: one / two };
+      if (withControl) {
+        const c1 = control(1, 30);
+        const c2 = control(2, 15);
+        Object.assign(pair, { control1Ms: c1, control2Ms: c2, controlRatio: c1 / c2 });
+      }
+      out.push(pair);
     }
-    const ratios = out.map((p) => p.ratio).sort((a, b) => a - b);
-    return { pairs: out, medianRatio: ratios[Math.floor(ratios.length / 2)] };
+    const result = { pairs: out, medianRatio: median(out.map((p) => p.ratio)) };
+    if (withControl) result.medianControlRatio = median(out.map((p) => p.controlRatio));
+    return result;
   };
-  return { frames: 20, main: pairs(frameDir, 7), noise: pairs(noiseDir, 3) };
+  return { frames: 20, main: pairs(frameDir, 7, true), noise: pairs(noiseDir, 3, false) };
 }
 
 function report(results, p6, p5, cam) {
@@ -257,6 +269,8 @@ function report(results, p6, p5, cam) {
       lines.push('', `P5 \`subgauge audit\` of ${p5.frames} frames, --jobs 1 / --jobs 2, whole processes, pairs in turn:`);
       lines.push(`- 20 copies of the 26 MP frame: ${show(p5.main)}; median speed-up ${p5.main.medianRatio.toFixed(2)}x.`);
       lines.push(`- 20 star-less 9 MP noise frames: ${show(p5.noise)}; median speed-up ${p5.noise.medianRatio.toFixed(2)}x.`);
+      const control = p5.main.pairs.map((p) => `${p.controlRatio.toFixed(2)}x`).join(', ');
+      lines.push(`- Control, the machine alone (\`bench/scaling.mjs\`: the same fixed CPU work in one thread, then split over two), run after each pair above: ${control}; median ${p5.main.medianControlRatio.toFixed(2)}x. A perfectly parallel job could get no more than this here; the audit got ${(100 * p5.main.medianRatio / p5.main.medianControlRatio).toFixed(0)} % of it.`);
     }
   }
   const text = lines.join('\n') + '\n';
