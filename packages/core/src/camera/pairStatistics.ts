@@ -98,29 +98,47 @@ const isShortInteger = (d: NumericPixels): boolean => d instanceof Uint16Array |
 
 // Differences of two <= 16-bit integer frames lie in [-65535, 65535]: one counting pass gives their exact median
 // (the same value selection gives, mean of the two middle values for an even count), much faster than selection.
+// The histogram is shared and kept all zero between calls: each call clears only the bins it used, so a small tile
+// costs its pixels, not the 131 071 bins.
 const DIFF_OFFSET = 65535;
 let diffCounts: Int32Array | undefined;
 
-/** Count the differences A − B of two <= 16-bit integer views into the shared histogram (index d + DIFF_OFFSET). */
-function differenceHistogram(a: PixelView, b: PixelView): Int32Array {
+/** The differences A − B of two <= 16-bit integer views, counted (index d + DIFF_OFFSET), and their range. */
+interface DifferenceHistogram {
+  counts: Int32Array;
+  /** Lowest and highest index holding a count. */
+  first: number;
+  last: number;
+}
+
+function differenceHistogram(a: PixelView, b: PixelView): DifferenceHistogram {
   const counts = (diffCounts ??= new Int32Array(2 * DIFF_OFFSET + 1));
-  counts.fill(0);
   const da = a.data, db = b.data;
+  let first = counts.length, last = -1;
   for (let y = 0; y < a.height; y++) {
     let ia = a.offset + y * a.strideY, ib = b.offset + y * b.strideY;
     for (let x = 0; x < a.width; x++) {
-      counts[(da[ia]! - db[ib]!) + DIFF_OFFSET]!++;
+      const v = da[ia]! - db[ib]! + DIFF_OFFSET;
+      counts[v]!++;
+      if (v < first) first = v;
+      if (v > last) last = v;
       ia += a.strideX; ib += b.strideX;
     }
   }
-  return counts;
+  return { counts, first, last };
 }
 
-/** The exact median of the n differences counted in `counts` (mean of the two middle values for an even n). */
-function histogramMedian(counts: Int32Array, n: number): number {
+/** Clear the bins `h` used, restoring the all-zero histogram for the next call. */
+function clearHistogram(h: DifferenceHistogram): void {
+  if (h.last >= h.first) h.counts.fill(0, h.first, h.last + 1);
+}
+
+/** The exact median of the n counted differences (mean of the two middle values for an even n). */
+function histogramMedian(h: DifferenceHistogram, n: number): number {
+  const counts = h.counts;
   const kLow = (n - 1) >>> 1, kHigh = n >>> 1; // 0-based ranks of the middle value(s)
   let seen = 0, low = NaN;
-  for (let v = 0; v < counts.length; v++) {
+  for (let v = h.first; v <= h.last; v++) {
     const c = counts[v]!;
     if (c === 0) continue;
     if (Number.isNaN(low) && seen + c > kLow) low = v - DIFF_OFFSET;
@@ -134,9 +152,10 @@ function histogramMedian(counts: Int32Array, n: number): number {
  * Count, sum and sum of squares of (d − shift) over the counted differences d in [lo, hi]. With integer d and
  * shift these are sums of integers, exact while below 2^53, so they equal pairPass's own sums bit for bit.
  */
-function histogramDifferenceSums(counts: Int32Array, lo: number, hi: number, shift: number, out: Float64Array): void {
-  const first = Math.max(0, Math.ceil(lo) + DIFF_OFFSET);
-  const last = Math.min(counts.length - 1, Math.floor(hi) + DIFF_OFFSET);
+function histogramDifferenceSums(h: DifferenceHistogram, lo: number, hi: number, shift: number, out: Float64Array): void {
+  const counts = h.counts;
+  const first = Math.max(h.first, Math.ceil(lo) + DIFF_OFFSET);
+  const last = Math.min(h.last, Math.floor(hi) + DIFF_OFFSET);
   let n = 0, d1 = 0, d2 = 0;
   for (let v = first; v <= last; v++) {
     const c = counts[v]!;
@@ -148,12 +167,9 @@ function histogramDifferenceSums(counts: Int32Array, lo: number, hi: number, shi
 }
 
 /** Largest |d − shift| over the counted differences (0 when none). */
-function histogramReach(counts: Int32Array, shift: number): number {
-  let first = 0, last = counts.length - 1;
-  while (first <= last && counts[first] === 0) first++;
-  while (last >= first && counts[last] === 0) last--;
-  if (first > last) return 0;
-  return Math.max(Math.abs(first - DIFF_OFFSET - shift), Math.abs(last - DIFF_OFFSET - shift));
+function histogramReach(h: DifferenceHistogram, shift: number): number {
+  if (h.first > h.last) return 0;
+  return Math.max(Math.abs(h.first - DIFF_OFFSET - shift), Math.abs(h.last - DIFF_OFFSET - shift));
 }
 
 /**
@@ -181,30 +197,36 @@ export function pairStatistics(a: PixelView, b: PixelView, options: PairStatisti
   let current = all;
   let iterations = 0;
   let median: number;
-  const counts = isShortInteger(a.data) && isShortInteger(b.data) ? differenceHistogram(a, b) : undefined;
-  const shiftD = counts === undefined ? 0 : a.data[a.offset]! - b.data[b.offset]!;
+  const hist = isShortInteger(a.data) && isShortInteger(b.data) ? differenceHistogram(a, b) : undefined;
+  const shiftD = hist === undefined ? 0 : a.data[a.offset]! - b.data[b.offset]!;
   const n = all.pixelCount;
-  if (counts !== undefined && n * histogramReach(counts, shiftD) ** 2 <= 2 ** 53) {
+  if (hist !== undefined && n * histogramReach(hist, shiftD) ** 2 <= 2 ** 53) {
     // Integer pair: the difference moments of every clipping window come from the histogram, exactly as a pass
     // over the pixels would give them; only the final window needs a pass (for the means and variances of A, B).
-    median = histogramMedian(counts, n);
+    median = histogramMedian(hist, n);
     const sums = new Float64Array(3);
     let count = n, lo = -Infinity, hi = Infinity;
     while (iterations < maxIterations && sigma > 0) {
       lo = median - clipSigma * sigma;
       hi = median + clipSigma * sigma;
-      histogramDifferenceSums(counts, lo, hi, shiftD, sums);
+      histogramDifferenceSums(hist, lo, hi, shiftD, sums);
       iterations++;
       const changed = sums[0] !== count;
       count = sums[0]!;
       if (!changed || count < 3) break;
       sigma = Math.sqrt(Math.max(0, sums[2]! - (sums[1]! * sums[1]!) / count) / (count - 1)); // as pairPass
     }
+    clearHistogram(hist);
     if (iterations > 0) current = pairPass(a, b, lo, hi);
   } else {
-    const total = a.width * a.height;
-    const scratch = options.scratch && options.scratch.length >= total ? options.scratch : new Float32Array(total);
-    median = counts !== undefined ? histogramMedian(counts, n) : medianInPlace(scratch, fillDifferences(a, b, scratch));
+    if (hist !== undefined) {
+      median = histogramMedian(hist, n);
+      clearHistogram(hist);
+    } else {
+      const total = a.width * a.height;
+      const scratch = options.scratch && options.scratch.length >= total ? options.scratch : new Float32Array(total);
+      median = medianInPlace(scratch, fillDifferences(a, b, scratch));
+    }
     while (iterations < maxIterations && sigma > 0) {
       const next = pairPass(a, b, median - clipSigma * sigma, median + clipSigma * sigma);
       iterations++;

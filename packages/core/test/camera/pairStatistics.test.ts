@@ -200,5 +200,12 @@ describe('pairStatistics difference median on 16-bit integers', () => {
     const ints = pairStatistics(view(a), view(b));
     expect(ints).toEqual(pairStatistics(view(Float64Array.from(a)), view(Float64Array.from(b))));
     expect(ints.clipped?.rejectedCount).toBeGreaterThan(0);
+    // the shared histogram is left clear: the next pair is measured as if it were the first
+    const next = noisyPair(64, 48, 12, 0.01);
+    const nextB = next.b.map((v) => v + 37); // differences centred elsewhere than the big pair's
+    const small = (d: Uint16Array | Float64Array) => ({ data: d, width: 64, height: 48, strideX: 1, strideY: 64, offset: 0 });
+    const after = pairStatistics(small(next.a), small(nextB));
+    expect(after).toEqual(pairStatistics(small(Float64Array.from(next.a)), small(Float64Array.from(nextB))));
+    expect(after.clipped?.differenceMedian).toBeLessThan(-30);
   });
 });
