@@ -67,6 +67,11 @@ function pairPass(a: PixelView, b: PixelView, lo: number, hi: number): PairMomen
       }
     }
   }
+  return momentsOf(n, shiftA, shiftB, a1, a2, b1, b2, d1, d2);
+}
+
+/** Moments from the count and the shifted sums (values − shift, their squares) of A, B and A − B. */
+function momentsOf(n: number, shiftA: number, shiftB: number, a1: number, a2: number, b1: number, b2: number, d1: number, d2: number): PairMoments {
   if (n === 0) return { ...EMPTY };
   const dof = n - 1;
   return {
@@ -75,7 +80,7 @@ function pairPass(a: PixelView, b: PixelView, lo: number, hi: number): PairMomen
     meanB: shiftB + b1 / n,
     varianceA: dof > 0 ? Math.max(0, a2 - (a1 * a1) / n) / dof : NaN,
     varianceB: dof > 0 ? Math.max(0, b2 - (b1 * b1) / n) / dof : NaN,
-    differenceMean: shiftD + d1 / n,
+    differenceMean: shiftA - shiftB + d1 / n,
     differenceVariance: dof > 0 ? Math.max(0, d2 - (d1 * d1) / n) / dof : NaN,
   };
 }
@@ -103,29 +108,56 @@ const isShortInteger = (d: NumericPixels): boolean => d instanceof Uint16Array |
 const DIFF_OFFSET = 65535;
 let diffCounts: Int32Array | undefined;
 
-/** The differences A − B of two <= 16-bit integer views, counted (index d + DIFF_OFFSET), and their range. */
+/**
+ * The differences A − B of two <= 16-bit integer views, counted (index d + DIFF_OFFSET), and their range; with
+ * the sums pairPass would take of A and B (shifted by their first pixels) and the range of each frame.
+ */
 interface DifferenceHistogram {
   counts: Int32Array;
   /** Lowest and highest index holding a count. */
   first: number;
   last: number;
+  shiftA: number;
+  shiftB: number;
+  a1: number; a2: number; b1: number; b2: number;
+  minA: number; maxA: number; minB: number; maxB: number;
 }
 
 function differenceHistogram(a: PixelView, b: PixelView): DifferenceHistogram {
   const counts = (diffCounts ??= new Int32Array(2 * DIFF_OFFSET + 1));
   const da = a.data, db = b.data;
+  const shiftA = da[a.offset]!, shiftB = db[b.offset]!;
   let first = counts.length, last = -1;
+  let a1 = 0, a2 = 0, b1 = 0, b2 = 0;
+  let minA = shiftA, maxA = shiftA, minB = shiftB, maxB = shiftB;
   for (let y = 0; y < a.height; y++) {
     let ia = a.offset + y * a.strideY, ib = b.offset + y * b.strideY;
     for (let x = 0; x < a.width; x++) {
-      const v = da[ia]! - db[ib]! + DIFF_OFFSET;
+      const va = da[ia]!, vb = db[ib]!;
+      ia += a.strideX; ib += b.strideX;
+      const v = va - vb + DIFF_OFFSET;
       counts[v]!++;
       if (v < first) first = v;
       if (v > last) last = v;
-      ia += a.strideX; ib += b.strideX;
+      const ca = va - shiftA, cb = vb - shiftB;
+      a1 += ca; a2 += ca * ca; b1 += cb; b2 += cb * cb;
+      if (va < minA) minA = va; else if (va > maxA) maxA = va;
+      if (vb < minB) minB = vb; else if (vb > maxB) maxB = vb;
     }
   }
-  return { counts, first, last };
+  return { counts, first, last, shiftA, shiftB, a1, a2, b1, b2, minA, maxA, minB, maxB };
+}
+
+/**
+ * pairPass(a, b, -Infinity, Infinity) from the histogram's pass, bit for bit: every sum is of integers and stays
+ * exact (so order-free) while n · (largest |value − shift|)² <= 2^53. Undefined when that bound does not hold.
+ */
+function momentsFromHistogram(h: DifferenceHistogram, n: number, out: Float64Array): PairMoments | undefined {
+  const shiftD = h.shiftA - h.shiftB;
+  const reach = Math.max(h.maxA - h.shiftA, h.shiftA - h.minA, h.maxB - h.shiftB, h.shiftB - h.minB, histogramReach(h, shiftD));
+  if (n * reach * reach > 2 ** 53) return undefined;
+  histogramDifferenceSums(h, -Infinity, Infinity, shiftD, out);
+  return momentsOf(n, h.shiftA, h.shiftB, h.a1, h.a2, h.b1, h.b2, out[1]!, out[2]!);
 }
 
 /** Clear the bins `h` used, restoring the all-zero histogram for the next call. */
@@ -189,22 +221,26 @@ export function pairStatistics(a: PixelView, b: PixelView, options: PairStatisti
   if (a.width !== b.width || a.height !== b.height) {
     throw new InvalidInputError('INPUT_SHAPE_MISMATCH', `pair sizes differ: ${a.width}x${a.height} vs ${b.width}x${b.height}`);
   }
-  const all = pairPass(a, b, -Infinity, Infinity);
   const clipSigma = options.clipSigma === undefined ? 5 : options.clipSigma;
-  if (clipSigma === null || all.pixelCount < 3) return { ...all, clipped: null };
+  // An integer pair that will be clipped: one pass counts the differences and takes the unclipped sums.
+  const hist = clipSigma !== null && isShortInteger(a.data) && isShortInteger(b.data) ? differenceHistogram(a, b) : undefined;
+  const sums = new Float64Array(3);
+  const all = (hist && momentsFromHistogram(hist, a.width * a.height, sums)) || pairPass(a, b, -Infinity, Infinity);
+  if (clipSigma === null || all.pixelCount < 3) {
+    if (hist !== undefined) clearHistogram(hist);
+    return { ...all, clipped: null };
+  }
   const maxIterations = options.maxIterations ?? 10;
   let sigma = Math.sqrt(all.differenceVariance);
   let current = all;
   let iterations = 0;
   let median: number;
-  const hist = isShortInteger(a.data) && isShortInteger(b.data) ? differenceHistogram(a, b) : undefined;
-  const shiftD = hist === undefined ? 0 : a.data[a.offset]! - b.data[b.offset]!;
+  const shiftD = hist === undefined ? 0 : hist.shiftA - hist.shiftB;
   const n = all.pixelCount;
   if (hist !== undefined && n * histogramReach(hist, shiftD) ** 2 <= 2 ** 53) {
     // Integer pair: the difference moments of every clipping window come from the histogram, exactly as a pass
     // over the pixels would give them; only the final window needs a pass (for the means and variances of A, B).
     median = histogramMedian(hist, n);
-    const sums = new Float64Array(3);
     let count = n, lo = -Infinity, hi = Infinity;
     while (iterations < maxIterations && sigma > 0) {
       lo = median - clipSigma * sigma;
