@@ -197,7 +197,7 @@ describe('subgauge audit on nights from the independent numpy/astropy generator'
 
   // Finding F4 in docs/findings-independent-night.md: the detected trail stops at the last whole 64-px segment, up to
   // 63 px short of the frame edge (lengthPixels 383 for chords of 399-423 px). Expected to pass once fixed.
-  it.fails('audit --json reports the trail across its whole chord of the frame, within 10 px', (ctx) => {
+  it('audit --json reports the trail across its whole chord of the frame, within 10 px', (ctx) => {
     if (!need(ctx)) return;
     for (const { seed, truth, doc } of nights) {
       const f = truth.frames.find((x) => x.trail)!;

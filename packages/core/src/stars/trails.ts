@@ -373,6 +373,8 @@ function clipLine(l: Line, w: number, h: number): [number, number] | null {
 }
 
 const SEGMENT = 64;
+/** A remainder shorter than this at the end of a line is not tested as a segment of its own (px). */
+const MIN_LAST_SEGMENT = 8;
 const HALF_SPAN = 12; // cross-profile half width sampled (px)
 const WING_IN = 8; // side strips: HALF_SPAN >= |s| >= WING_IN
 
@@ -455,8 +457,13 @@ function verifyLine(
   const range2 = clipLine(l, w, h);
   if (range2 === null) return null;
   const t0 = Math.ceil(range2[0]);
-  const nSeg = Math.floor((range2[1] - t0) / SEGMENT);
+  const tEnd = Math.floor(range2[1]); // last sample along the line inside the frame
+  // whole segments, then the remainder up to the frame edge as a shorter last one (when it is worth testing)
+  const whole = Math.floor((tEnd - t0 + 1) / SEGMENT);
+  const rest = tEnd - t0 + 1 - whole * SEGMENT;
+  const nSeg = whole + (rest >= MIN_LAST_SEGMENT ? 1 : 0);
   if (nSeg < 1) return null;
+  const segmentEnd = (k: number): number => Math.min(t0 + (k + 1) * SEGMENT, tEnd + 1); // exclusive
   const coreSum = new Float64Array(nSeg);
   const coreN = new Float64Array(nSeg);
   const sideSum = new Float64Array(nSeg);
@@ -465,7 +472,7 @@ function verifyLine(
   profSum.fill(0);
   profCnt.fill(0);
   for (let k = 0; k < nSeg; k++) {
-    for (let t = t0 + k * SEGMENT; t < t0 + (k + 1) * SEGMENT; t++) {
+    for (let t = t0 + k * SEGMENT, end = segmentEnd(k); t < end; t++) {
       for (let s = -S; s <= S; s++) {
         const as = Math.abs(s);
         if (as > hw && as < WING_IN) continue;
@@ -493,7 +500,8 @@ function verifyLine(
   let last = -1;
   for (let k = 0; k < nSeg; k++) {
     // need a third of the core samples and of the side samples unmasked
-    if (coreN[k]! < (SEGMENT * (2 * hw + 1)) / 3 || sideN[k]! < (SEGMENT * 2 * (S - WING_IN + 1)) / 3) continue;
+    const len = segmentEnd(k) - (t0 + k * SEGMENT);
+    if (coreN[k]! < (len * (2 * hw + 1)) / 3 || sideN[k]! < (len * 2 * (S - WING_IN + 1)) / 3) continue;
     const v = varSum[k]! / coreN[k]!;
     const diff = coreSum[k]! / coreN[k]! - sideSum[k]! / sideN[k]!;
     const se = Math.sqrt(v * (1 / coreN[k]! + 1 / sideN[k]!));
@@ -524,14 +532,14 @@ function verifyLine(
   // a real trail is bright all along: the median segment must stand out too, not just a few lucky ones
   const spanSnr = Float64Array.from(segSnr.subarray(first, last + 1));
   const medianSegmentSnr = medianAndMadSigma(spanSnr, segments, new Float64Array(segments)).median;
-  const length = segments * SEGMENT;
+  const ta = t0 + first * SEGMENT;
+  const tb = segmentEnd(last) - 1;
+  const length = tb - ta + 1;
   if (cn === 0 || sn === 0) return null;
   const sb = cs / cn - ss / sn;
   const se = Math.sqrt((vs / cn) * (1 / cn + 1 / sn));
   const snr = sb / se;
   if (length < minLength || nGood < 4 || coverage < 0.6 || !(medianSegmentSnr >= 5) || !(snr >= 8)) return null;
-  const ta = t0 + first * SEGMENT;
-  const tb = t0 + (last + 1) * SEGMENT - 1;
   // cross-profile FWHM from the first pass (sigma of the positive core); null when the core is too weak
   const widthPixels = m0 > 0 && sigmaCross > 0.35 ? 2.3548200450309493 * sigmaCross : null;
   let angle = (Math.atan2(l.uy, l.ux) * 180) / Math.PI;
