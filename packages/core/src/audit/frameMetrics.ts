@@ -4,7 +4,7 @@ import { frameView } from '../image/view.js';
 import { backgroundMesh, meshLevelGrid, type BackgroundMesh } from '../stats/mesh.js';
 import { detectStars } from '../stars/detect.js';
 import { summarizeStars } from '../stars/summary.js';
-import { detectTrails } from '../stars/trails.js';
+import { detectTrails, sourcesOffTrails } from '../stars/trails.js';
 import type { NumericPixels, StarDetection, TrailDetection } from '../stars/types.js';
 import { InvalidInputError } from '../errors.js';
 import { frameObservationValues } from './observation.js';
@@ -48,9 +48,10 @@ function defaultSaturation(image: ImageData): number | undefined {
 
 /**
  * Per-frame audit metrics of one light frame: mesh background and noise (REFERENCE C.5), star detection and shapes
- * over the background map (E.2-E.3), a Hough trail search on the star-masked image (E.4), the saturated-pixel
- * fraction and the signal of the brightest unsaturated stars (the transparency proxy `starSignalAdu`; the frame
- * weight is then (starSignal / noise)², i.e. ∝ SNR², computed by the session audit).
+ * over the background map (E.2-E.3), a Hough trail search on the star-masked image (E.4; sources on a trail are
+ * then not counted as stars), the saturated-pixel fraction and the signal of the brightest unsaturated stars (the
+ * transparency proxy `starSignalAdu`; the frame weight is then (starSignal / noise)², i.e. ∝ SNR², computed by the
+ * session audit).
  * @throws InvalidInputError INPUT_BAD_PARAMETER for 64-bit integer pixels.
  */
 export function measureLightFrame(file: string, image: ImageData, header: Header, opts: LightFrameOptions = {}): LightFrameMeasurement {
@@ -80,15 +81,17 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
     ...(saturationAdu !== undefined ? { saturationAdu } : {}),
     ...(opts.gainElectronsPerAdu !== undefined ? { gainElectronsPerAdu: opts.gainElectronsPerAdu } : {}),
   });
-  const summary = summarizeStars(stars.sources);
   const trails = opts.skipTrails ? null : detectTrails(starImage, { background, noise, sources: stars.sources });
+  // the stars: the detected sources less the pieces of any trail
+  const starSources = trails === null ? stars.sources : sourcesOffTrails(stars.sources, trails.trails);
+  const summary = summarizeStars(starSources);
 
-  const unsaturated = stars.sources.filter((s) => !s.saturated && !s.tooLarge && !s.touchesEdge).map((s) => s.fluxAdu);
+  const unsaturated = starSources.filter((s) => !s.saturated && !s.tooLarge && !s.touchesEdge).map((s) => s.fluxAdu);
   unsaturated.sort((a, b) => b - a);
   const nSignal = Math.min(opts.signalStars ?? 20, unsaturated.length);
   const top = unsaturated.slice(0, nSignal).sort((a, b) => a - b);
   const starSignalAdu = nSignal ? (nSignal % 2 ? top[(nSignal - 1) / 2]! : (top[nSignal / 2 - 1]! + top[nSignal / 2]!) / 2) : null;
-  const snrs = stars.sources.map((s) => s.snr).filter((v) => Number.isFinite(v)).sort((a, b) => a - b);
+  const snrs = starSources.map((s) => s.snr).filter((v) => Number.isFinite(v)).sort((a, b) => a - b);
   const snrEstimate = snrs.length ? snrs[Math.floor(snrs.length / 2)] : undefined;
   const scale = plateScaleArcsecPerPixel(obs.pixelSizeMicrons, obs.focalLengthMm);
   const total = mesh.pixels.validCount + mesh.pixels.saturatedCount;
@@ -99,7 +102,7 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
     backgroundAdu: mesh.medianLevelAdu,
     noiseAdu: mesh.medianNoiseAdu,
     gradientPercent: mesh.gradient.percent,
-    starCount: stars.sources.length,
+    starCount: starSources.length,
     fwhmPixels: summary.medianFwhmPixels,
     fwhmArcsec: summary.medianFwhmPixels !== null && scale !== undefined ? summary.medianFwhmPixels * scale : null,
     elongation: summary.medianElongation,

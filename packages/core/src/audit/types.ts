@@ -114,7 +114,7 @@ export interface FrameMetrics extends FrameObservationValues {
   pedestalAdu?: number | undefined;
   /** Spread of the background mesh: (max - min) / median x 100 (percent). */
   gradientPercent?: number | undefined;
-  /** Stars detected. */
+  /** Stars detected (sources on a detected trail are not stars). */
   starCount: number;
   /** Median FWHM of unsaturated, isolated stars (px). */
   fwhmPixels?: number | null | undefined;

@@ -2,7 +2,7 @@
 
 import { detectStars } from './detect.js';
 import { summarizeStars } from './summary.js';
-import { detectTrails } from './trails.js';
+import { detectTrails, sourcesOffTrails } from './trails.js';
 import type {
   DetectStarsOptions,
   DetectTrailsOptions,
@@ -31,11 +31,15 @@ export interface StarAnalysis {
   trails: TrailDetection | null;
 }
 
-/** Detect and measure stars, summarise them, and look for trails with the detected sources masked. */
+/**
+ * Detect and measure stars, look for trails with the detected sources masked, and summarise the stars: the sources
+ * less those on a detected trail (as the audit counts them).
+ */
 export function analyzeStars(image: StarImage, options: AnalyzeStarsOptions): StarAnalysis {
   const { background, noise } = options;
   const detection = detectStars(image, { ...options.detect, background, noise });
-  const summary = summarizeStars(detection.sources, options.summary);
   const trails = options.trails === false ? null : detectTrails(image, { ...options.trails, background, noise, sources: detection.sources });
+  const stars = trails === null ? detection.sources : sourcesOffTrails(detection.sources, trails.trails);
+  const summary = summarizeStars(stars, options.summary);
   return { detection, summary, trails };
 }

@@ -30,6 +30,6 @@ export {
 export type { MomentShape, ImageMoments } from './profiles.js';
 export { detectStars, defaultSaturationAdu } from './detect.js';
 export { summarizeStars } from './summary.js';
-export { detectTrails } from './trails.js';
+export { detectTrails, sourcesOffTrails } from './trails.js';
 export { analyzeStars } from './analyze.js';
 export type { AnalyzeStarsOptions, StarAnalysis } from './analyze.js';

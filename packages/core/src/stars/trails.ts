@@ -838,3 +838,27 @@ export function detectTrails(image: StarImage, options: DetectTrailsOptions): Tr
   }
   return { trails, binFactor: bin, candidatesChecked: checked, diagnostics };
 }
+
+/**
+ * The sources that do not lie on a detected trail. A trail breaks into pieces the star detector finds as sources;
+ * counted as stars they would hide a loss of stars (and skew the shape statistics). A source is on a trail when its
+ * centroid is within a margin of the trail's segment (the trail's FWHM, at least 3 px, plus 2 px; common practice
+ * for masking a line), across it and past either end.
+ * @example sourcesOffTrails(stars.sources, detectTrails(image, opts).trails).length
+ */
+export function sourcesOffTrails(sources: readonly StarSource[], trails: readonly Trail[]): StarSource[] {
+  if (trails.length === 0) return sources.slice();
+  return sources.filter((s) => {
+    for (const t of trails) {
+      const dx = t.x1 - t.x0, dy = t.y1 - t.y0;
+      const length = Math.hypot(dx, dy);
+      if (!(length > 0)) continue;
+      const ux = dx / length, uy = dy / length;
+      const margin = Math.max(3, t.widthPixels ?? 3) + 2;
+      const along = (s.x - t.x0) * ux + (s.y - t.y0) * uy;
+      const across = Math.abs((s.y - t.y0) * ux - (s.x - t.x0) * uy);
+      if (across <= margin && along >= -margin && along <= length + margin) return false;
+    }
+    return true;
+  });
+}

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { detectStars, detectTrails } from '@subgauge/core';
+import { detectStars, detectTrails, sourcesOffTrails, type StarSource, type Trail } from '@subgauge/core';
 import { XorShift32, addGaussian, addNoise, addTrail, newFrame, randomPositions, toUint16 } from './helpers.js';
 import type { Frame } from './helpers.js';
 
@@ -175,5 +175,33 @@ describe('detectTrails: options and inputs', () => {
     expect(detectTrails(img, { background: 100, noise: 5, binFactor: 4 }).binFactor).toBe(4);
     expect(() => detectTrails(img, { background: 100, noise: 5, binFactor: 0 })).toThrow(expect.objectContaining({ code: 'INPUT_BAD_PARAMETER' }));
     expect(() => detectTrails(img, { background: new Float32Array(5), noise: 5 })).toThrow(expect.objectContaining({ code: 'INPUT_SHAPE_MISMATCH' }));
+  });
+});
+
+describe('sourcesOffTrails', () => {
+  // A trail from (10, 20) to (110, 20) (along +x), FWHM 2 px: margin max(3, 2) + 2 = 5 px across and past each end.
+  const trail = { x0: 10, y0: 20, x1: 110, y1: 20, widthPixels: 2 } as Trail;
+  const at = (id: number, x: number, y: number) => ({ id, x, y }) as StarSource;
+
+  it('sourcesOffTrails drops centroids within 5 px of the segment and keeps the rest (hand-computed geometry)', () => {
+    const sources = [
+      at(1, 60, 20), // on the line
+      at(2, 60, 24.9), // 4.9 px across: on
+      at(3, 60, 25.1), // 5.1 px across: off
+      at(4, 6, 21), // 4 px before the start, 1 across: on
+      at(5, 4, 20), // 6 px before the start: off
+      at(6, 114.5, 17), // 4.5 px past the end: on
+      at(7, 300, 20), // far along the line's extension: off
+    ];
+    expect(sourcesOffTrails(sources, [trail]).map((s) => s.id)).toEqual([3, 5, 7]);
+  });
+
+  it('sourcesOffTrails measures across a tilted trail and widens the margin with the trail FWHM', () => {
+    // 45 degrees through the origin; (10, 0) lies 10 / sqrt 2 = 7.07 px from the line
+    const tilted = { x0: 0, y0: 0, x1: 100, y1: 100, widthPixels: 6 } as Trail; // margin 6 + 2 = 8 px
+    const s = [at(1, 10, 0), at(2, 20, 0)]; // 7.07 px (on) and 14.1 px (off)
+    expect(sourcesOffTrails(s, [tilted]).map((x) => x.id)).toEqual([2]);
+    expect(sourcesOffTrails(s, [{ ...tilted, widthPixels: null }]).map((x) => x.id)).toEqual([1, 2]); // margin 5
+    expect(sourcesOffTrails(s, []).map((x) => x.id)).toEqual([1, 2]);
   });
 });
