@@ -134,6 +134,22 @@ describe('subgauge audit on folders of real FITS files', () => {
   });
 });
 
+describe('subgauge audit on a folder of FITS files named in another convention', () => {
+  // Was observation O1: the ESO-MIDAS test folder holds its FITS files as `.mt`; the scan passed over them silently.
+  it('audit on eso-midas-testdata fits/ (FITS named .mt) says how many files it did not read and how to read them', async (ctx) => {
+    if (!requireOutside('eso-midas-testdata', hasDataset('eso-midas-testdata'), ctx)) return;
+    const folder = `${datasetRoot('eso-midas-testdata')}/fits`;
+    const r = await runCli(['audit', folder, '--jobs', '1', '--no-progress']);
+    expect(r.stderr).toMatch(/note: (\d+) file\(s\) in the folders not read: their names do not end in \.fits \.fit \.fts/);
+    expect(Number(/note: (\d+) file/.exec(r.stderr)![1])).toBeGreaterThanOrEqual(13); // the 13 .mt files at least
+    expect(r.stderr).toContain('give such files by name to read them');
+    const quiet = await runCli(['audit', folder, '--jobs', '1', '--no-progress', '--quiet']);
+    expect(quiet.stderr).not.toContain('note:');
+    const byName = await auditChecked([join(folder, 'tst0001.mt')]);
+    expect(byName).toHaveLength(1); // the same file given by name is read
+  });
+});
+
 describe('subgauge audit on a file astropy writes with a 1-D primary image and a 2-D extension', () => {
   // Was finding F8: the header scan and the pixel loader picked different HDUs (the 1-D primary was measured).
   // Both now take the first 2-D image (packages/cli/src/io/load.ts).

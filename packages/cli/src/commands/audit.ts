@@ -18,7 +18,7 @@ import { type CliIo, EXIT_OK, EXIT_SOME_FAILED } from '../context.js';
 import type { Run } from '../main.js';
 import { failureOf, loadFrameHeader } from '../io/load.js';
 import { type FramePool, defaultJobs, openFramePool } from '../io/pool.js';
-import { scanPaths } from '../io/scan.js';
+import { scanPaths, skippedNote } from '../io/scan.js';
 import { parsePositiveInt } from '../options.js';
 import { Progress } from '../render/progress.js';
 import { auditCsv, renderAuditText } from '../render/audit.js';
@@ -86,7 +86,10 @@ export async function runAudit(paths: readonly string[], opts: AuditCliOptions, 
 
 async function auditWith(pool: FramePool, paths: readonly string[], opts: AuditCliOptions, io: CliIo): Promise<AuditRun> {
   const limits = await readLimits(opts.limits);
-  const { files, missing } = await scanPaths(paths);
+  const scan = await scanPaths(paths);
+  const { files, missing } = scan;
+  const note = skippedNote(scan);
+  if (note !== undefined && !opts.quiet) io.stderr(`note: ${note}\n`);
   const unreadable: UnreadableFrame[] = missing.map((m) => ({ file: m.path, code: m.code, message: m.message, where: { file: m.path } }));
   const lightFiles: string[] = [];
   const calibration: CalibrationFrameInfo[] = [];

@@ -14,6 +14,7 @@ import { loadFrames, type LoadFailure } from '../io/load.js';
 import { parsePositiveNumber, parseRegion, type RegionOption } from '../options.js';
 import { toJson } from '../render/json.js';
 import { Progress } from '../render/progress.js';
+import { skippedNote } from '../io/scan.js';
 import { renderCameraSummary, renderFailures } from '../render/camera.js';
 import { type CommonOptions, emitJson, htmlOption, outputOptions, readOptions } from './common.js';
 
@@ -55,8 +56,10 @@ function parseFitWindow(text: string): [number, number] {
 
 export async function runCamera(paths: readonly string[], opts: CameraCliOptions, io: CliIo): Promise<{ result: CameraResult | undefined; failures: LoadFailure[] }> {
   const progress = new Progress(io, opts.progress && !opts.quiet && !opts.json, 'reading');
-  const { frames, failures } = await loadFrames(paths, opts, (d, t) => progress.update(d, t));
+  const { frames, failures, skipped } = await loadFrames(paths, opts, (d, t) => progress.update(d, t));
   progress.stop();
+  const note = skippedNote({ skipped });
+  if (note !== undefined && !opts.quiet) io.stderr(`note: ${note}\n`);
   const options: CameraOptions = {};
   if (opts.kind.length) options.kindOverrides = kindOverrides(opts.kind);
   if (opts.region) options.region = { x: opts.region.x, y: opts.region.y, width: opts.region.width, height: opts.region.height };

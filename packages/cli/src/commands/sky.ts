@@ -20,7 +20,7 @@ import {
 import { type CliIo, EXIT_OK, EXIT_SOME_FAILED, EXIT_USAGE, palette } from '../context.js';
 import type { Run } from '../main.js';
 import { failureOf, loadFrame, type LoadedFrame, type LoadFailure } from '../io/load.js';
-import { scanPaths } from '../io/scan.js';
+import { scanPaths, skippedNote } from '../io/scan.js';
 import { parseDurationSeconds, parseNumber, parsePositiveNumber } from '../options.js';
 import { Progress } from '../render/progress.js';
 import { renderFailures } from '../render/camera.js';
@@ -100,11 +100,14 @@ async function resolveCamera(opts: SkyCliOptions, biases: LoadedFrame[], lights:
 }
 
 export async function runSky(paths: readonly string[], opts: SkyCliOptions, io: CliIo): Promise<SkyDocument> {
-  const { files, missing } = await scanPaths(paths);
+  const scan = await scanPaths(paths);
+  const { files, missing } = scan;
   const unreadable: LoadFailure[] = missing.map((m) => ({ file: m.path, code: m.code, message: m.message, where: { file: m.path } }));
   const lights: LoadedFrame[] = [];
   const biases: LoadedFrame[] = [];
   const warnings: string[] = [];
+  const note = skippedNote(scan);
+  if (note !== undefined) warnings.push(note);
   const progress = new Progress(io, opts.progress && !opts.quiet && !opts.json, 'reading');
   let done = 0;
   let skippedOther = 0;

@@ -79,8 +79,8 @@ export async function loadFrames(
   paths: readonly string[],
   opts: LoadOptions,
   onProgress?: (done: number, total: number) => void,
-): Promise<{ frames: LoadedFrame[]; failures: LoadFailure[] }> {
-  const { files, missing } = await scanPaths(paths);
+): Promise<{ frames: LoadedFrame[]; failures: LoadFailure[]; skipped: string[] }> {
+  const { files, missing, skipped } = await scanPaths(paths);
   const failures: LoadFailure[] = missing.map((m) => ({ file: m.path, code: m.code, message: m.message, where: { file: m.path } }));
   const frames: LoadedFrame[] = [];
   let done = 0;
@@ -92,5 +92,5 @@ export async function loadFrames(
     }
     onProgress?.(++done, files.length);
   }
-  return { frames, failures };
+  return { frames, failures, skipped };
 }

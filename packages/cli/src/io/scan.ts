@@ -14,6 +14,19 @@ export interface ScanResult {
   files: string[];
   /** Paths that could not be read as given (missing, unreadable). */
   missing: { path: string; code: 'INPUT_NOT_FOUND' | 'INPUT_READ_FAILED'; message: string }[];
+  /** Files inside the folders walked that were passed over: their names do not end as FITS names do. */
+  skipped: string[];
+}
+
+/**
+ * A note on the files a folder scan passed over (undefined when none), so that a folder of FITS files named in
+ * another convention (ESO-MIDAS `.mt`, say) does not look empty without a word.
+ */
+export function skippedNote(scan: Pick<ScanResult, 'skipped'>): string | undefined {
+  const n = scan.skipped.length;
+  if (n === 0) return undefined;
+  const example = path.basename(scan.skipped[0]!);
+  return `${n} file(s) in the folders not read: their names do not end in ${FITS_EXTENSIONS.join(' ')} (e.g. ${example}); give such files by name to read them`;
 }
 
 /**
@@ -23,6 +36,7 @@ export interface ScanResult {
 export async function scanPaths(paths: readonly string[]): Promise<ScanResult> {
   const files: string[] = [];
   const missing: ScanResult['missing'] = [];
+  const skipped: string[] = [];
   const seen = new Set<string>();
   const add = (f: string) => {
     if (!seen.has(f)) {
@@ -44,12 +58,12 @@ export async function scanPaths(paths: readonly string[]): Promise<ScanResult> {
       if (e.name.startsWith('.')) continue;
       const full = path.join(dir, e.name);
       if (e.isDirectory()) await walk(full, depth + 1);
-      else if (e.isFile() && looksLikeFitsName(e.name)) add(full);
+      else if (e.isFile()) (looksLikeFitsName(e.name) ? add(full) : skipped.push(full));
       else if (e.isSymbolicLink()) {
         try {
           const s = await stat(full);
           if (s.isDirectory()) await walk(full, depth + 1);
-          else if (s.isFile() && looksLikeFitsName(e.name)) add(full);
+          else if (s.isFile()) (looksLikeFitsName(e.name) ? add(full) : skipped.push(full));
         } catch {
           /* dangling link: ignored like any non-FITS entry */
         }
@@ -68,5 +82,5 @@ export async function scanPaths(paths: readonly string[]): Promise<ScanResult> {
     if (s.isDirectory()) await walk(p, 0);
     else add(p);
   }
-  return { files, missing };
+  return { files, missing, skipped };
 }
