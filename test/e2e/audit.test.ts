@@ -88,6 +88,9 @@ describe('subgauge audit outputs and failures', () => {
     expect(broken).toMatchObject({ verdict: 'reject', reasons: ['unreadable'] });
     expect(broken.error.code).toMatch(/^FITS_/);
     expect(doc.frames.filter((f: { verdict: string }) => f.verdict !== 'reject')).toHaveLength(3);
+    // the summary line tells the lights from the file it could not read
+    const text = await runCli(['audit', dir, '--jobs', '1', '--no-progress']);
+    expect(text.stdout).toMatch(/^Audit of 3 light frame\(s\) and 1 unreadable file\(s\): \d+ keep, \d+ review, [1-9]\d* reject/);
   });
 
   it('audit --limits with a bad field names the field', async () => {
