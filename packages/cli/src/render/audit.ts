@@ -27,7 +27,7 @@ export function renderAuditText(r: AuditResult, io: CliIo): string {
   const lines: string[] = [];
   const c = r.counts;
   // unreadable files are records (verdict reject) but not lights: say them apart
-  const unreadable = r.frames.filter((f) => f.reasons.includes('unreadable')).length;
+  const unreadable = c.byReason.unreadable;
   const what = unreadable ? `${c.frames - unreadable} light frame(s) and ${unreadable} unreadable file(s)` : `${c.frames} light frame(s)`;
   lines.push(p.head(`Audit of ${what}: ${c.keep} keep, ${c.review} review, ${c.reject} reject`));
   const reject = r.frames.filter((f) => f.verdict === 'reject');

@@ -2,9 +2,7 @@ import type { Header, ImageData } from '../fits/types.js';
 import { observationOf } from '../frame/observation.js';
 import { frameView } from '../image/view.js';
 import { backgroundMesh, meshLevelGrid, type BackgroundMesh } from '../stats/mesh.js';
-import { detectStars } from '../stars/detect.js';
-import { summarizeStars } from '../stars/summary.js';
-import { detectTrails, sourcesOffTrails } from '../stars/trails.js';
+import { analyzeStars } from '../stars/analyze.js';
 import type { NumericPixels, StarDetection, TrailDetection } from '../stars/types.js';
 import { InvalidInputError } from '../errors.js';
 import { frameObservationValues } from './observation.js';
@@ -74,17 +72,16 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
   // re-reading width x height values: memory traffic limits how well worker threads scale.
   const background = meshLevelGrid(mesh, 'level');
   const noise = mesh.medianNoiseAdu > 0 ? mesh.medianNoiseAdu : 1;
-  const stars = detectStars(starImage, {
+  const { detection: stars, stars: starSources, summary, trails } = analyzeStars(starImage, {
     background,
     noise,
-    ...(opts.thresholdSigma !== undefined ? { thresholdSigma: opts.thresholdSigma } : {}),
-    ...(saturationAdu !== undefined ? { saturationAdu } : {}),
-    ...(opts.gainElectronsPerAdu !== undefined ? { gainElectronsPerAdu: opts.gainElectronsPerAdu } : {}),
+    detect: {
+      ...(opts.thresholdSigma !== undefined ? { thresholdSigma: opts.thresholdSigma } : {}),
+      ...(saturationAdu !== undefined ? { saturationAdu } : {}),
+      ...(opts.gainElectronsPerAdu !== undefined ? { gainElectronsPerAdu: opts.gainElectronsPerAdu } : {}),
+    },
+    trails: opts.skipTrails ? false : {},
   });
-  const trails = opts.skipTrails ? null : detectTrails(starImage, { background, noise, sources: stars.sources });
-  // the stars: the detected sources less the pieces of any trail
-  const starSources = trails === null ? stars.sources : sourcesOffTrails(stars.sources, trails.trails);
-  const summary = summarizeStars(starSources);
 
   const unsaturated = starSources.filter((s) => !s.saturated && !s.tooLarge && !s.touchesEdge).map((s) => s.fluxAdu);
   unsaturated.sort((a, b) => b - a);

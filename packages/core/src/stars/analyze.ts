@@ -4,19 +4,21 @@ import { detectStars } from './detect.js';
 import { summarizeStars } from './summary.js';
 import { detectTrails, sourcesOffTrails } from './trails.js';
 import type {
+  BackgroundLevels,
   DetectStarsOptions,
   DetectTrailsOptions,
   LevelMap,
   StarDetection,
   StarFieldSummary,
   StarImage,
+  StarSource,
   StarSummaryOptions,
   TrailDetection,
 } from './types.js';
 
 /** Options of {@link analyzeStars}: the shared background and noise, and per-step options. */
 export interface AnalyzeStarsOptions {
-  background: LevelMap;
+  background: BackgroundLevels;
   noise: LevelMap;
   detect?: Omit<DetectStarsOptions, 'background' | 'noise'>;
   summary?: StarSummaryOptions;
@@ -27,6 +29,8 @@ export interface AnalyzeStarsOptions {
 /** Result of {@link analyzeStars}. `trails` is null when the check was skipped. */
 export interface StarAnalysis {
   detection: StarDetection;
+  /** The stars: the detected sources less those on a detected trail (all of them when trails were not checked). */
+  stars: StarSource[];
   summary: StarFieldSummary;
   trails: TrailDetection | null;
 }
@@ -41,5 +45,5 @@ export function analyzeStars(image: StarImage, options: AnalyzeStarsOptions): St
   const trails = options.trails === false ? null : detectTrails(image, { ...options.trails, background, noise, sources: detection.sources });
   const stars = trails === null ? detection.sources : sourcesOffTrails(detection.sources, trails.trails);
   const summary = summarizeStars(stars, options.summary);
-  return { detection, summary, trails };
+  return { detection, stars, summary, trails };
 }

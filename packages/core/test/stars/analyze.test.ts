@@ -18,6 +18,7 @@ describe('analyzeStars', () => {
     expect(all.trails!.trails).toHaveLength(1);
     const stars = sourcesOffTrails(det.sources, trails.trails);
     expect(stars.length).toBeLessThan(det.sources.length); // the trail left pieces among the sources
+    expect(all.stars).toEqual(stars);
     expect(all.summary).toEqual(summarizeStars(stars, { snrThreshold: 30 }));
     const skipped = analyzeStars(img, { background: 500, noise: 10, trails: false, summary: { snrThreshold: 30 } });
     expect(skipped.trails).toBeNull();
