@@ -3,7 +3,7 @@ import { observationOf } from '../frame/observation.js';
 import { frameView } from '../image/view.js';
 import { backgroundMesh, meshLevelGrid, type BackgroundMesh } from '../stats/mesh.js';
 import { analyzeStars } from '../stars/analyze.js';
-import type { NumericPixels, StarDetection, TrailDetection } from '../stars/types.js';
+import type { NumericPixels, StarDetection, StarImage, TrailDetection } from '../stars/types.js';
 import { InvalidInputError } from '../errors.js';
 import { frameObservationValues } from './observation.js';
 import type { FrameMetrics } from './types.js';
@@ -30,6 +30,19 @@ export interface LightFrameMeasurement {
   mesh: BackgroundMesh;
   stars: StarDetection;
   trails: TrailDetection | null;
+}
+
+/** The frame as the star kernels read it; a class, not a literal (DEVELOPERS.md, "Objects made once a frame"). */
+class FrameImage implements StarImage {
+  declare readonly pixels: NumericPixels;
+  declare readonly width: number;
+  declare readonly height: number;
+
+  constructor(pixels: NumericPixels, width: number, height: number) {
+    this.pixels = pixels;
+    this.width = width;
+    this.height = height;
+  }
 }
 
 /** Plate scale in arcsec per pixel: 206.265 × pixel size (µm, as written, binning included) / focal length (mm) (REFERENCE E.1). */
@@ -67,7 +80,7 @@ export function measureLightFrame(file: string, image: ImageData, header: Header
   });
   // The detector reads plane 0 as a contiguous row-major store (a view of the same buffer, never a copy).
   const pixels = image.pixels.subarray(0, width * height) as NumericPixels;
-  const starImage = { pixels, width, height };
+  const starImage = new FrameImage(pixels, width, height);
   // The mesh level interpolated on the fly, equal to its Float32Array map (renderMeshMap) without writing and
   // re-reading width x height values: memory traffic limits how well worker threads scale.
   const background = meshLevelGrid(mesh, 'level');

@@ -237,31 +237,29 @@ function thresholdFiltered(image: StarImage, background: BackgroundLevels, noise
   return above;
 }
 
-/** Scratch for the saddle split, grown as needed. */
-interface SplitScratch {
-  vals: Float64Array;
-  order: Int32Array;
-  regionOf: Int32Array;
-  parent: Int32Array;
-  peak: Float64Array;
-  peakPix: Int32Array;
-  size: Int32Array;
-  part: Int32Array;
-  grid: Int32Array;
-}
+/** Scratch for the saddle split, grown as needed; a class, not a literal (DEVELOPERS.md, "Objects made once a frame"). */
+class SplitScratch {
+  declare readonly vals: Float64Array;
+  declare readonly order: Int32Array;
+  declare readonly regionOf: Int32Array;
+  declare readonly parent: Int32Array;
+  declare readonly peak: Float64Array;
+  declare readonly peakPix: Int32Array;
+  declare readonly size: Int32Array;
+  declare readonly part: Int32Array;
+  declare readonly grid: Int32Array;
 
-function newSplitScratch(n: number): SplitScratch {
-  return {
-    vals: new Float64Array(n),
-    order: new Int32Array(n),
-    regionOf: new Int32Array(n),
-    parent: new Int32Array(n),
-    peak: new Float64Array(n),
-    peakPix: new Int32Array(n),
-    size: new Int32Array(n),
-    part: new Int32Array(n),
-    grid: new Int32Array(n),
-  };
+  constructor(n: number) {
+    this.vals = new Float64Array(n);
+    this.order = new Int32Array(n);
+    this.regionOf = new Int32Array(n);
+    this.parent = new Int32Array(n);
+    this.peak = new Float64Array(n);
+    this.peakPix = new Int32Array(n);
+    this.size = new Int32Array(n);
+    this.part = new Int32Array(n);
+    this.grid = new Int32Array(n);
+  }
 }
 
 /**
@@ -497,7 +495,7 @@ function measureComponents(
   const width = ctx.width;
   let idx = new Int32Array(1024);
   let sorted = new Int32Array(1024);
-  let sc = newSplitScratch(1024);
+  let sc = new SplitScratch(1024);
   let tooLargeCount = 0;
   for (let i = 0; i < chosen.length; i++) {
     const c = chosen[i]!;
@@ -520,7 +518,7 @@ function measureComponents(
     const gh = by1[c]! - by0[c]! + 1;
     let parts = 1;
     if (split !== null && n >= split.minPixels + 2) {
-      if (sc.vals.length < n || sc.grid.length < gw * gh) sc = newSplitScratch(Math.max(2 * n, gw * gh));
+      if (sc.vals.length < n || sc.grid.length < gw * gh) sc = new SplitScratch(Math.max(2 * n, gw * gh));
       parts = splitComponent(ctx, idx, n, bx0[c]!, by0[c]!, gw, gh, split.connectivity, split.minPixels, split.dipSigma, split.dipFraction, sc);
     }
     if (parts === 1) {

@@ -20,6 +20,52 @@ export interface MeasureContext {
   scratch: { a: Float64Array; b: Float64Array; bins: Float64Array };
 }
 
+/** Scratch of {@link MeasureContext}; classes, not literals (DEVELOPERS.md, "Objects made once a frame"). */
+class MeasureScratch {
+  declare readonly a: Float64Array;
+  declare readonly b: Float64Array;
+  declare readonly bins: Float64Array;
+
+  constructor() {
+    this.a = new Float64Array(4096);
+    this.b = new Float64Array(4096);
+    this.bins = new Float64Array(1024);
+  }
+}
+
+class MeasureFrame implements MeasureContext {
+  declare readonly pixels: NumericPixels;
+  declare readonly width: number;
+  declare readonly height: number;
+  declare readonly background: BackgroundLevels;
+  declare readonly noise: LevelMap;
+  declare readonly saturationAdu: number;
+  declare readonly gainElectronsPerAdu: number | undefined;
+  declare readonly localBackground: boolean;
+  declare readonly scratch: MeasureScratch;
+
+  constructor(
+    pixels: NumericPixels,
+    width: number,
+    height: number,
+    background: BackgroundLevels,
+    noise: LevelMap,
+    saturationAdu: number,
+    gainElectronsPerAdu: number | undefined,
+    localBackground: boolean,
+  ) {
+    this.pixels = pixels;
+    this.width = width;
+    this.height = height;
+    this.background = background;
+    this.noise = noise;
+    this.saturationAdu = saturationAdu;
+    this.gainElectronsPerAdu = gainElectronsPerAdu;
+    this.localBackground = localBackground;
+    this.scratch = new MeasureScratch();
+  }
+}
+
 export function createMeasureContext(
   pixels: NumericPixels,
   width: number,
@@ -30,17 +76,7 @@ export function createMeasureContext(
   gainElectronsPerAdu: number | undefined,
   localBackground: boolean,
 ): MeasureContext {
-  return {
-    pixels,
-    width,
-    height,
-    background,
-    noise,
-    saturationAdu,
-    gainElectronsPerAdu,
-    localBackground,
-    scratch: { a: new Float64Array(4096), b: new Float64Array(4096), bins: new Float64Array(1024) },
-  };
+  return new MeasureFrame(pixels, width, height, background, noise, saturationAdu, gainElectronsPerAdu, localBackground);
 }
 
 const levelAt = (m: LevelMap, i: number): number => (typeof m === 'number' ? m : m[i]!);

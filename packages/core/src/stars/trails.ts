@@ -10,23 +10,55 @@ import { medianAndMadSigma } from './select.js';
 import { backgroundAt, gridColumnLevels, isLevelGrid } from './levels.js';
 import type { BackgroundLevels, DetectTrailsOptions, LevelGrid, LevelMap, StarImage, StarSource, Trail, TrailDetection } from './types.js';
 
-/** Masked regions: disks about sources, plus boxes for saturated ones (bleeds), looked up through a coarse grid. */
-interface MaskSet {
-  cx: Float64Array;
-  cy: Float64Array;
-  r2: Float64Array;
+/**
+ * Masked regions: disks about sources, plus boxes for saturated ones (bleeds), looked up through a coarse grid.
+ * A class, not a literal (DEVELOPERS.md, "Objects made once a frame").
+ */
+class MaskSet {
+  declare readonly cx: Float64Array;
+  declare readonly cy: Float64Array;
+  declare readonly r2: Float64Array;
   /** Box (inclusive) or, when xb < xa, none. */
-  xa: Int32Array;
-  xb: Int32Array;
-  ya: Int32Array;
-  yb: Int32Array;
-  count: number;
-  cell: number;
-  gw: number;
-  gh: number;
+  declare readonly xa: Int32Array;
+  declare readonly xb: Int32Array;
+  declare readonly ya: Int32Array;
+  declare readonly yb: Int32Array;
+  declare readonly count: number;
+  declare readonly cell: number;
+  declare readonly gw: number;
+  declare readonly gh: number;
   /** Per grid cell: start into `items` (length gw*gh + 1). */
-  start: Int32Array;
-  items: Int32Array;
+  declare readonly start: Int32Array;
+  declare readonly items: Int32Array;
+
+  constructor(
+    cx: Float64Array,
+    cy: Float64Array,
+    r2: Float64Array,
+    xa: Int32Array,
+    xb: Int32Array,
+    ya: Int32Array,
+    yb: Int32Array,
+    cell: number,
+    gw: number,
+    gh: number,
+    start: Int32Array,
+    items: Int32Array,
+  ) {
+    this.cx = cx;
+    this.cy = cy;
+    this.r2 = r2;
+    this.xa = xa;
+    this.xb = xb;
+    this.ya = ya;
+    this.yb = yb;
+    this.count = cx.length;
+    this.cell = cell;
+    this.gw = gw;
+    this.gh = gh;
+    this.start = start;
+    this.items = items;
+  }
 }
 
 /** Sources left unmasked: unsaturated and elongated (A/B >= 3), as trail pieces are. */
@@ -94,7 +126,7 @@ function buildMasks(sources: readonly StarSource[], width: number, height: numbe
     const [a, b, c, d] = span(k);
     for (let gy = c; gy <= d; gy++) for (let gx = a; gx <= b; gx++) items[fill[gy * gw + gx]!++] = k;
   }
-  return { cx, cy, r2, xa, xb, ya, yb, count: n, cell, gw, gh, start, items };
+  return new MaskSet(cx, cy, r2, xa, xb, ya, yb, cell, gw, gh, start, items);
 }
 
 function isMasked(m: MaskSet, x: number, y: number): boolean {
@@ -587,32 +619,41 @@ function thresholdMask(z: Float32Array, k: number): Uint8Array {
   return mask;
 }
 
-/** Per component (label 1..count): extents and first and second moments, in block coordinates. */
-interface BlockMoments {
-  count: number;
-  minX: Int32Array;
-  maxX: Int32Array;
-  minY: Int32Array;
-  maxY: Int32Array;
-  n: Float64Array;
-  sx: Float64Array;
-  sy: Float64Array;
-  sxx: Float64Array;
-  syy: Float64Array;
-  sxy: Float64Array;
+/**
+ * Per component (label 1..count): extents and first and second moments, in block coordinates. A class, not a
+ * literal (DEVELOPERS.md, "Objects made once a frame").
+ */
+class BlockMoments {
+  declare readonly count: number;
+  declare readonly minX: Int32Array;
+  declare readonly maxX: Int32Array;
+  declare readonly minY: Int32Array;
+  declare readonly maxY: Int32Array;
+  declare readonly n: Float64Array;
+  declare readonly sx: Float64Array;
+  declare readonly sy: Float64Array;
+  declare readonly sxx: Float64Array;
+  declare readonly syy: Float64Array;
+  declare readonly sxy: Float64Array;
+
+  constructor(count: number, bw: number, bh: number) {
+    this.count = count;
+    this.minX = new Int32Array(count + 1).fill(bw);
+    this.maxX = new Int32Array(count + 1).fill(-1);
+    this.minY = new Int32Array(count + 1).fill(bh);
+    this.maxY = new Int32Array(count + 1).fill(-1);
+    this.n = new Float64Array(count + 1);
+    this.sx = new Float64Array(count + 1);
+    this.sy = new Float64Array(count + 1);
+    this.sxx = new Float64Array(count + 1);
+    this.syy = new Float64Array(count + 1);
+    this.sxy = new Float64Array(count + 1);
+  }
 }
 
 function blockMoments(labels: Int32Array, count: number, bw: number, bh: number): BlockMoments {
-  const minX = new Int32Array(count + 1).fill(bw);
-  const maxX = new Int32Array(count + 1).fill(-1);
-  const minY = new Int32Array(count + 1).fill(bh);
-  const maxY = new Int32Array(count + 1).fill(-1);
-  const n = new Float64Array(count + 1);
-  const sx = new Float64Array(count + 1);
-  const sy = new Float64Array(count + 1);
-  const sxx = new Float64Array(count + 1);
-  const syy = new Float64Array(count + 1);
-  const sxy = new Float64Array(count + 1);
+  const m = new BlockMoments(count, bw, bh);
+  const { minX, maxX, minY, maxY, n, sx, sy, sxx, syy, sxy } = m;
   for (let y = 0; y < bh; y++) {
     for (let x = 0; x < bw; x++) {
       const c = labels[y * bw + x]!;
@@ -629,7 +670,7 @@ function blockMoments(labels: Int32Array, count: number, bw: number, bh: number)
       sxy[c]! += x * y;
     }
   }
-  return { count, minX, maxX, minY, maxY, n, sx, sy, sxx, syy, sxy };
+  return m;
 }
 
 /** The blocks of components spanning at least 3 blocks, as points (block coordinates), and which components those are. */

@@ -46,16 +46,29 @@ function boxView(view: FrameView, x: number, y: number, w: number, h: number): F
   return view.hi(y + h, x + w).lo(y, x) as unknown as FrameView;
 }
 
-/** Reused buffers for turning one box into a sorted (value, count) list. */
-interface BoxWork {
+/**
+ * Reused buffers for turning one box into a sorted (value, count) list. A class, not an object literal, as every
+ * object made once a frame and read by hot loops (DEVELOPERS.md, "Objects made once a frame").
+ */
+class BoxWork {
   /** Direct histogram layout of the store, when it holds integers of <= 16 bits. */
-  origin: number | undefined;
-  blank: number;
-  fine: Uint32Array;
-  coarse: Uint32Array;
-  scratch: Float64Array;
-  values: Float64Array;
-  counts: Uint32Array;
+  declare readonly origin: number | undefined;
+  declare readonly blank: number;
+  declare readonly fine: Uint32Array;
+  declare readonly coarse: Uint32Array;
+  declare readonly scratch: Float64Array;
+  declare readonly values: Float64Array;
+  declare readonly counts: Uint32Array;
+
+  constructor(origin: number | undefined, blank: number, boxPixels: number, scratch: Float64Array) {
+    this.origin = origin;
+    this.blank = blank;
+    this.fine = new Uint32Array(origin === undefined ? 0 : 65536);
+    this.coarse = new Uint32Array(256);
+    this.scratch = scratch;
+    this.values = new Float64Array(boxPixels);
+    this.counts = new Uint32Array(boxPixels);
+  }
 }
 
 function boxWork(view: FrameView, boxPixels: number, opts: SampleOptions): BoxWork {
@@ -67,15 +80,7 @@ function boxWork(view: FrameView, boxPixels: number, opts: SampleOptions): BoxWo
     const r = integerFloatRange(view, blank, maskAddress(view, opts.mask));
     if (r !== undefined && r.nonFinite === 0 && r.hi - r.lo < 65536) origin = r.lo > r.hi ? 0 : r.lo;
   }
-  return {
-    origin,
-    blank: origin !== undefined && Number.isInteger(blank) ? blank : Number.NaN,
-    fine: new Uint32Array(origin === undefined ? 0 : 65536),
-    coarse: new Uint32Array(256),
-    scratch: scratchOf(boxPixels, opts.scratch),
-    values: new Float64Array(boxPixels),
-    counts: new Uint32Array(boxPixels),
-  };
+  return new BoxWork(origin, origin !== undefined && Number.isInteger(blank) ? blank : Number.NaN, boxPixels, scratchOf(boxPixels, opts.scratch));
 }
 
 /**
@@ -708,6 +713,52 @@ export function renderMeshMap(
   return map;
 }
 
+/** A {@link LevelGrid} of a mesh; a class, not a literal (DEVELOPERS.md, "Objects made once a frame"). */
+class MeshLevelGrid implements LevelGrid {
+  declare readonly kind: 'level-grid';
+  declare readonly width: number;
+  declare readonly height: number;
+  declare readonly columns: number;
+  declare readonly rows: number;
+  declare readonly values: Float64Array;
+  declare readonly colLeft: Int32Array;
+  declare readonly colRight: Int32Array;
+  declare readonly colWeight: Float64Array;
+  declare readonly colSpans: Int32Array;
+  declare readonly rowTop: Int32Array;
+  declare readonly rowBottom: Int32Array;
+  declare readonly rowWeight: Float64Array;
+
+  constructor(
+    width: number,
+    height: number,
+    columns: number,
+    rows: number,
+    values: Float64Array,
+    colLeft: Int32Array,
+    colRight: Int32Array,
+    colWeight: Float64Array,
+    colSpans: Int32Array,
+    rowTop: Int32Array,
+    rowBottom: Int32Array,
+    rowWeight: Float64Array,
+  ) {
+    this.kind = 'level-grid';
+    this.width = width;
+    this.height = height;
+    this.columns = columns;
+    this.rows = rows;
+    this.values = values;
+    this.colLeft = colLeft;
+    this.colRight = colRight;
+    this.colWeight = colWeight;
+    this.colSpans = colSpans;
+    this.rowTop = rowTop;
+    this.rowBottom = rowBottom;
+    this.rowWeight = rowWeight;
+  }
+}
+
 /**
  * The smoothed level (or noise) as a {@link LevelGrid} for the star kernels: the same bilinear interpolation
  * between box centres as {@link renderMeshMap} into a Float32Array, evaluated per row or pixel when read, so no
@@ -738,19 +789,6 @@ export function meshLevelGrid(mesh: BackgroundMesh, which: 'level' | 'noise' = '
     rowBottom[y] = Math.min(i + 1, rows - 1);
     rowWeight[y] = cellWeight(centresY, i, y);
   }
-  return {
-    kind: 'level-grid',
-    width,
-    height,
-    columns,
-    rows,
-    values: which === 'noise' ? mesh.noiseAdu : mesh.levelAdu,
-    colLeft,
-    colRight,
-    colWeight,
-    colSpans: Int32Array.from(spans),
-    rowTop,
-    rowBottom,
-    rowWeight,
-  };
+  return new MeshLevelGrid(width, height, columns, rows, which === 'noise' ? mesh.noiseAdu : mesh.levelAdu, colLeft, colRight, colWeight, Int32Array.from(spans), rowTop, rowBottom, rowWeight);
 }
+
