@@ -33,7 +33,8 @@ class MeasureScratch {
   }
 }
 
-class MeasureFrame implements MeasureContext {
+/** The {@link MeasureContext} of one frame, with fresh scratch. */
+export class MeasureFrame implements MeasureContext {
   declare readonly pixels: NumericPixels;
   declare readonly width: number;
   declare readonly height: number;
@@ -64,19 +65,6 @@ class MeasureFrame implements MeasureContext {
     this.localBackground = localBackground;
     this.scratch = new MeasureScratch();
   }
-}
-
-export function createMeasureContext(
-  pixels: NumericPixels,
-  width: number,
-  height: number,
-  background: BackgroundLevels,
-  noise: LevelMap,
-  saturationAdu: number,
-  gainElectronsPerAdu: number | undefined,
-  localBackground: boolean,
-): MeasureContext {
-  return new MeasureFrame(pixels, width, height, background, noise, saturationAdu, gainElectronsPerAdu, localBackground);
 }
 
 const levelAt = (m: LevelMap, i: number): number => (typeof m === 'number' ? m : m[i]!);
