@@ -5,8 +5,8 @@
 import type { Diagnostic } from '../diagnostics.js';
 import { InvalidInputError } from '../errors.js';
 import { RunList, labelRuns } from './label.js';
-import { MeasureFrame, PROFILE_LAMBDAS, finishProfile, measureFootprint, measureRunsComponent, profileChiSquaresOf } from './measure.js';
-import type { MeasureContext, PendingSource } from './measure.js';
+import { MeasureContext, PROFILE_LAMBDAS, finishProfile, measureFootprint, measureRunsComponent, profileChiSquaresOf } from './measure.js';
+import type { PendingSource } from './measure.js';
 import { backgroundAt, gridColumnLevels, isLevelGrid, levelGridRow } from './levels.js';
 import type { BackgroundLevels, DetectStarsOptions, LevelMap, NumericPixels, StarDetection, StarImage, StarSource } from './types.js';
 
@@ -583,7 +583,7 @@ export function detectStars(image: StarImage, options: DetectStarsOptions): Star
   const { componentOfRun, componentCount } = labelRuns(runs, connectivity);
 
   const comps = componentExtents(runs, componentOfRun, componentCount, width);
-  const ctx = new MeasureFrame(pixels, width, height, background, noise, saturationAdu, gain, options.localBackground ?? false);
+  const ctx = new MeasureContext(pixels, width, height, background, noise, saturationAdu, gain, options.localBackground ?? false);
   // components to measure; past maxSources only the largest (a cheap stand-in for the brightest) are kept
   let chosen: number[] = [];
   for (let c = 0; c < componentCount; c++) if (comps.area[c]! >= minPixels) chosen.push(c);

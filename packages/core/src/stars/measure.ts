@@ -7,24 +7,11 @@ import { backgroundAt } from './levels.js';
 import { shapeFromMoments } from './profiles.js';
 import { clippedMedian } from './select.js';
 
-/** What the measurements read; scratch buffers are reused across sources. */
-export interface MeasureContext {
-  pixels: NumericPixels;
-  width: number;
-  height: number;
-  background: BackgroundLevels;
-  noise: LevelMap;
-  saturationAdu: number;
-  gainElectronsPerAdu: number | undefined;
-  localBackground: boolean;
-  scratch: { a: Float64Array; b: Float64Array; bins: Float64Array };
-}
-
-/** Scratch of {@link MeasureContext}; classes, not literals (DEVELOPERS.md, "Objects made once a frame"). */
+/** Scratch of {@link MeasureContext}; each buffer is replaced by a larger one when a source needs it. */
 class MeasureScratch {
-  declare readonly a: Float64Array;
-  declare readonly b: Float64Array;
-  declare readonly bins: Float64Array;
+  declare a: Float64Array;
+  declare b: Float64Array;
+  declare bins: Float64Array;
 
   constructor() {
     this.a = new Float64Array(4096);
@@ -33,8 +20,11 @@ class MeasureScratch {
   }
 }
 
-/** The {@link MeasureContext} of one frame, with fresh scratch. */
-export class MeasureFrame implements MeasureContext {
+/**
+ * What the measurements of one frame read; its scratch buffers are reused across sources. A class, not a literal
+ * (DEVELOPERS.md, "Objects made once a frame").
+ */
+export class MeasureContext {
   declare readonly pixels: NumericPixels;
   declare readonly width: number;
   declare readonly height: number;
